@@ -1,0 +1,58 @@
+import { defineConfig, devices } from '@playwright/test';
+
+// Browser tests run against the built app (`node build`) on its own database, which
+// scripts/test.js prepares and passes in through the environment. The browser is Debian's
+// Chromium: Playwright never downloads one here.
+const port = Number(process.env.E2E_PORT ?? 3100);
+const origin = `http://127.0.0.1:${port}`;
+
+export default defineConfig({
+	testDir: 'tests/e2e',
+	testMatch: '**/*.e2e.ts',
+	outputDir: 'test-results/e2e',
+	fullyParallel: true,
+	workers: 2,
+	retries: 0,
+	timeout: 30_000,
+	reporter: [['list'], ['json', { outputFile: 'test-results/e2e-results.json' }]],
+	use: {
+		baseURL: origin,
+		trace: 'retain-on-failure',
+		screenshot: 'only-on-failure'
+	},
+	projects: [
+		{
+			name: 'chromium',
+			use: {
+				...devices['Desktop Chrome'],
+				launchOptions: {
+					executablePath: process.env.CHROMIUM_PATH ?? '/usr/bin/chromium',
+					args: [
+						'--no-sandbox',
+						'--disable-gpu',
+						'--disable-background-networking',
+						'--disable-component-update',
+						'--disable-sync',
+						'--no-first-run',
+						'--disable-quic'
+					]
+				}
+			}
+		}
+	],
+	webServer: {
+		command: 'node build',
+		url: `${origin}/api/v1/health`,
+		reuseExistingServer: false,
+		timeout: 60_000,
+		stdout: 'ignore',
+		stderr: 'pipe',
+		env: {
+			DATABASE_URL: process.env.E2E_DATABASE_URL ?? '',
+			HOST: '127.0.0.1',
+			PORT: String(port),
+			ORIGIN: origin,
+			AUTH_SECRET: process.env.E2E_AUTH_SECRET ?? 'e2e-only-secret-not-for-production'
+		}
+	}
+});

@@ -1,0 +1,97 @@
+// Database lifecycle for npm start, npm run dev, npm test and the db scripts: the local cluster
+// (or the server DATABASE_URL names), the roles, the database, migrations and the demo seed.
+// Imported only after ensureDependencies(): it uses drizzle-orm, postgres and tsx.
+import { drizzle } from 'drizzle-orm/postgres-js';
+import { migrate } from 'drizzle-orm/postgres-js/migrator';
+import { join } from 'node:path';
+import postgres from 'postgres';
+import { tsImport } from 'tsx/esm/api';
+import {
+	createDatabase,
+	databaseExists,
+	ensureCluster,
+	ensureRoles,
+	startCluster
+} from './cluster.js';
+import { localUrl, pg, root, say } from './local.js';
+
+/** @param {string} url */
+function connect(url) {
+	return postgres(url, { max: 1, onnotice: () => {}, connect_timeout: 10 });
+}
+
+/** Applies every migration in drizzle/ that the database has not seen, as the owner role. */
+export async function runMigrations(/** @type {string} */ ownerUrl) {
+	const sql = connect(ownerUrl);
+	try {
+		await migrate(drizzle(sql), { migrationsFolder: join(root, 'drizzle') });
+	} finally {
+		await sql.end();
+	}
+}
+
+/** Seeds the demo plant (idempotent). @returns {Promise<{ sites: number, buildings: number, areas: number }>} */
+export async function runSeed(/** @type {string} */ ownerUrl) {
+	/** @type {typeof import('../../src/lib/server/db/seed.ts')} */
+	const { seedDemoPlant } = await tsImport('../../src/lib/server/db/seed.ts', import.meta.url);
+	/** @type {typeof import('../../src/lib/server/db/schema/index.ts')} */
+	const schema = await tsImport('../../src/lib/server/db/schema/index.ts', import.meta.url);
+	const sql = connect(ownerUrl);
+	try {
+		return await seedDemoPlant(drizzle(sql, { schema }));
+	} finally {
+		await sql.end();
+	}
+}
+
+/** True when the database holds no site yet. */
+async function isEmpty(/** @type {string} */ ownerUrl) {
+	const sql = connect(ownerUrl);
+	try {
+		const [row] = await sql`select count(*)::int as n from sites`;
+		return row?.n === 0;
+	} finally {
+		await sql.end();
+	}
+}
+
+/**
+ * Makes a database ready: the local cluster running (unless DATABASE_URL points elsewhere),
+ * the roles, the database, every migration, and the demo data when it is empty.
+ * @param {{ database?: string, seed?: 'if-empty' | 'always' | 'never', external?: boolean }} [options]
+ * @returns {Promise<{ appUrl: string, ownerUrl: string, startedCluster: boolean }>}
+ */
+export async function prepareDatabase({
+	database = pg.database,
+	seed = 'if-empty',
+	external = Boolean(process.env.DATABASE_URL)
+} = {}) {
+	let appUrl, ownerUrl;
+	let startedCluster = false;
+	if (external) {
+		appUrl = /** @type {string} */ (process.env.DATABASE_URL);
+		ownerUrl = process.env.MIGRATION_DATABASE_URL ?? appUrl;
+		say('DATABASE_URL is set: using that server, no local cluster');
+	} else {
+		const created = ensureCluster();
+		startedCluster = startCluster();
+		ensureRoles();
+		if (!databaseExists(database)) {
+			say(`creating database ${database}`);
+			createDatabase(database);
+		} else if (!created) {
+			say(`database ${database} exists (reused)`);
+		}
+		appUrl = localUrl('app', database);
+		ownerUrl = localUrl('owner', database);
+	}
+	await runMigrations(ownerUrl);
+	say('migrations applied');
+	if (seed === 'always' || (seed === 'if-empty' && (await isEmpty(ownerUrl)))) {
+		const added = await runSeed(ownerUrl);
+		say(
+			`demo data seeded (${added.sites} site, ${added.buildings} buildings, ${added.areas} areas added)`
+		);
+	}
+	return { appUrl, ownerUrl, startedCluster };
+}

@@ -1,0 +1,69 @@
+import type { Handle, HandleServerError, ServerInit } from '@sveltejs/kit';
+import { json } from '@sveltejs/kit';
+import { closeDatabase } from '$lib/server/db/index';
+import { log } from '$lib/server/log';
+
+export const init: ServerInit = async () => {
+	// adapter-node emits this on SIGTERM/SIGINT once the HTTP server has closed: the open pool
+	// would otherwise keep the process alive.
+	process.once('sveltekit:shutdown', async (reason: string) => {
+		await closeDatabase();
+		log.info('server stopped', { reason });
+	});
+};
+
+const isApi = (path: string) => path === '/api' || path.startsWith('/api/');
+const isJson = (response: Response) =>
+	response.status < 400 ||
+	(response.headers.get('content-type') ?? '').includes('application/json');
+
+function apiMessage(status: number, method: string) {
+	if (status === 404) return 'Not found';
+	if (status === 405) return `${method} is not allowed on this route`;
+	if (status >= 500) return 'Something went wrong on our side';
+	return 'The request was refused';
+}
+
+export const handle: Handle = async ({ event, resolve }) => {
+	event.locals.requestId = crypto.randomUUID();
+	const response = await resolve(event);
+
+	// API routes answer JSON, never an HTML page or bare text, whatever the client asked for.
+	if (isApi(event.url.pathname) && !isJson(response)) {
+		const status = response.status >= 400 ? response.status : 500;
+		const headers = new Headers({ 'x-request-id': event.locals.requestId });
+		const allow = response.headers.get('allow');
+		if (allow) headers.set('allow', allow);
+		return json(
+			{ message: apiMessage(status, event.request.method), errorId: event.locals.errorId },
+			{ status, headers }
+		);
+	}
+
+	response.headers.set('x-request-id', event.locals.requestId);
+	response.headers.set('x-content-type-options', 'nosniff');
+	response.headers.set('referrer-policy', 'same-origin');
+	response.headers.set('x-frame-options', 'DENY');
+	return response;
+};
+
+/**
+ * Unexpected errors: logged with an id and the stack on the server; the person sees the id only.
+ */
+export const handleError: HandleServerError = ({ error, event, status, message }) => {
+	const errorId = crypto.randomUUID().slice(0, 8);
+	event.locals.errorId = errorId;
+	if (status === 404) return { message: 'Not found', errorId };
+	log.error('unexpected error', {
+		errorId,
+		requestId: event.locals.requestId,
+		method: event.request.method,
+		path: event.url.pathname,
+		status,
+		error:
+			error instanceof Error
+				? { name: error.name, message: error.message, stack: error.stack }
+				: String(error)
+	});
+	return { message: status < 500 ? message : 'Something went wrong on our side', errorId };
+};

@@ -1,0 +1,2 @@
+// One schema module per domain, re-exported here for the client and for drizzle-kit.
+export * from './plant';
