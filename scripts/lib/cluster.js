@@ -174,9 +174,9 @@ const ident = (/** @type {string} */ v) => `"${v.replaceAll('"', '""')}"`;
 /** The owner role (migrations) and the application role, with the passwords of this data folder. */
 export function ensureRoles() {
 	const secrets = localSecrets();
-	for (const [role, password, extra] of [
-		[pg.ownerRole, secrets.owner, 'CREATEDB'],
-		[pg.appRole, secrets.app, 'NOCREATEDB']
+	for (const { role, password, extra } of [
+		{ role: pg.ownerRole, password: secrets.owner, extra: 'CREATEDB' },
+		{ role: pg.appRole, password: secrets.app, extra: 'NOCREATEDB' }
 	]) {
 		const exists = superSql(`SELECT 1 FROM pg_roles WHERE rolname = ${literal(role)}`) === '1';
 		const verb = exists ? 'ALTER' : 'CREATE';

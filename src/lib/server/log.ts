@@ -7,7 +7,9 @@ type Level = 'info' | 'warn' | 'error';
 type Fields = Record<string, unknown>;
 
 export function formatLine(level: Level, message: string, fields: Fields = {}, now = new Date()) {
-	return JSON.stringify({ time: now.toISOString(), level, message, ...fields });
+	// Fields cannot overwrite the line's own time, level or message.
+	const { time: _time, level: _level, message: _message, ...rest } = fields;
+	return JSON.stringify({ time: now.toISOString(), level, message, ...rest });
 }
 
 function write(level: Level, message: string, fields?: Fields) {
