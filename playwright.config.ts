@@ -52,7 +52,11 @@ export default defineConfig({
 			HOST: '127.0.0.1',
 			PORT: String(port),
 			ORIGIN: origin,
-			AUTH_SECRET: process.env.E2E_AUTH_SECRET ?? 'e2e-only-secret-not-for-production'
+			AUTH_SECRET: process.env.E2E_AUTH_SECRET ?? 'e2e-only-secret-not-for-production',
+			// The lockout journey signs in wrongly five times in a row; the progressive delay is
+			// tested against the database in tests/integration/sign-in.spec.ts.
+			AUTH_DELAY_FREE_PER_USERNAME: '5',
+			AUTH_DELAY_FREE_PER_ADDRESS: '1000'
 		}
 	}
 });

@@ -16,6 +16,9 @@ if (only && !parts.includes(only)) {
 	process.exit(2);
 }
 const wants = (/** @type {string} */ part) => !only || only === part;
+// With --only, arguments after `--` go to that part's tool (vitest or playwright), e.g. a file filter.
+const dashes = process.argv.indexOf('--');
+const extra = only && dashes > 0 ? process.argv.slice(dashes + 1) : [];
 
 ensureDependencies();
 const { root, localUrl, localSecrets, say } = await import('./lib/local.js');
@@ -116,7 +119,8 @@ for (const project of ['unit', 'integration']) {
 			project,
 			'--reporter=default',
 			'--reporter=json',
-			`--outputFile.json=${report}`
+			`--outputFile.json=${report}`,
+			...extra
 		],
 		{
 			COUNTERSIGN_TEST_TEMPLATE: TEMPLATE
@@ -131,9 +135,10 @@ if (wants('e2e')) {
 	cluster.createDatabase(E2E_DATABASE, { template: TEMPLATE });
 	await runSeed(localUrl('owner', E2E_DATABASE));
 	const report = join(results, 'e2e-results.json');
-	const ok = run('e2e', bin('playwright'), ['test'], {
+	const ok = run('e2e', bin('playwright'), ['test', ...extra], {
 		PLAYWRIGHT_SKIP_BROWSER_DOWNLOAD: '1',
 		E2E_DATABASE_URL: localUrl('app', E2E_DATABASE),
+		E2E_OWNER_DATABASE_URL: localUrl('owner', E2E_DATABASE),
 		E2E_AUTH_SECRET: localSecrets().authSecret
 	});
 	const stats = existsSync(report) ? JSON.parse(readFileSync(report, 'utf8')).stats : {};

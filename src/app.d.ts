@@ -7,6 +7,8 @@ declare global {
 			errorId?: string;
 		}
 		interface Locals {
+			/** The signed-in person, checked against the server-side session on this request. */
+			user: import('$lib/server/auth/guard').User | null;
 			/** Set by hooks.server.ts for every request; carried into logs. */
 			requestId: string;
 			/** Set by handleError so that API responses can carry the same id. */
@@ -14,6 +16,10 @@ declare global {
 		}
 		interface PageData {
 			site?: { name: string; code: string; timeZone: string };
+		}
+		namespace Superforms {
+			/** A form-level message: what happened, in words, and whether it went wrong. */
+			type Message = { kind: 'error' | 'ok'; text: string };
 		}
 		// interface PageState {}
 		// interface Platform {}

@@ -1,5 +1,8 @@
 import type { Handle, HandleServerError, ServerInit } from '@sveltejs/kit';
 import { json } from '@sveltejs/kit';
+import { sequence } from '@sveltejs/kit/hooks';
+import { handle as authHandle } from '$lib/server/auth/index';
+import { guard } from '$lib/server/auth/guard';
 import { closeDatabase } from '$lib/server/db/index';
 import { log } from '$lib/server/log';
 
@@ -24,8 +27,10 @@ function apiMessage(status: number, method: string) {
 	return 'The request was refused';
 }
 
-export const handle: Handle = async ({ event, resolve }) => {
+/** Request id, security headers, and JSON (never HTML) from every API route. */
+const core: Handle = async ({ event, resolve }) => {
 	event.locals.requestId = crypto.randomUUID();
+	event.locals.user = null;
 	const response = await resolve(event);
 
 	// API routes answer JSON, never an HTML page or bare text, whatever the client asked for.
@@ -40,12 +45,30 @@ export const handle: Handle = async ({ event, resolve }) => {
 		);
 	}
 
-	response.headers.set('x-request-id', event.locals.requestId);
-	response.headers.set('x-content-type-options', 'nosniff');
-	response.headers.set('referrer-policy', 'same-origin');
-	response.headers.set('x-frame-options', 'DENY');
-	return response;
+	// Some responses (Response.redirect from Auth.js) have immutable headers: copy those first.
+	const out = isImmutable(response) ? new Response(response.body, response) : response;
+	for (const [name, value] of Object.entries(securityHeaders)) out.headers.set(name, value);
+	out.headers.set('x-request-id', event.locals.requestId);
+	return out;
 };
+
+const securityHeaders = {
+	'x-content-type-options': 'nosniff',
+	'referrer-policy': 'same-origin',
+	'x-frame-options': 'DENY'
+};
+
+function isImmutable(response: Response) {
+	try {
+		response.headers.set('x-request-id', '');
+		return false;
+	} catch {
+		return true;
+	}
+}
+
+/** Core first (it wraps everything), then Auth.js (/auth/*), then the guard for every other route. */
+export const handle = sequence(core, authHandle, guard);
 
 /**
  * Unexpected errors: logged with an id and the stack on the server; the person sees the id only.

@@ -30,15 +30,20 @@ export async function runMigrations(/** @type {string} */ ownerUrl) {
 	}
 }
 
-/** Seeds the demo plant (idempotent). @returns {Promise<{ sites: number, buildings: number, areas: number }>} */
+/**
+ * Seeds the demo plant and the demo accounts (idempotent).
+ * @returns {Promise<{ sites: number, buildings: number, areas: number, accounts: number }>}
+ */
 export async function runSeed(/** @type {string} */ ownerUrl) {
 	/** @type {typeof import('../../src/lib/server/db/seed.ts')} */
-	const { seedDemoPlant } = await tsImport('../../src/lib/server/db/seed.ts', import.meta.url);
+	const { seedDemoAccounts, seedDemoPlant } = await tsImport('../../src/lib/server/db/seed.ts', import.meta.url);
 	/** @type {typeof import('../../src/lib/server/db/schema/index.ts')} */
 	const schema = await tsImport('../../src/lib/server/db/schema/index.ts', import.meta.url);
 	const sql = connect(ownerUrl);
 	try {
-		return await seedDemoPlant(drizzle(sql, { schema }));
+		const database = drizzle(sql, { schema });
+		const plant = await seedDemoPlant(database);
+		return { ...plant, accounts: await seedDemoAccounts(database) };
 	} finally {
 		await sql.end();
 	}
@@ -90,7 +95,7 @@ export async function prepareDatabase({
 	if (seed === 'always' || (seed === 'if-empty' && (await isEmpty(ownerUrl)))) {
 		const added = await runSeed(ownerUrl);
 		say(
-			`demo data seeded (${added.sites} site, ${added.buildings} buildings, ${added.areas} areas added)`
+			`demo data seeded (${added.sites} site, ${added.buildings} buildings, ${added.areas} areas, ${added.accounts} accounts added)`
 		);
 	}
 	return { appUrl, ownerUrl, startedCluster };

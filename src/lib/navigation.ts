@@ -1,10 +1,17 @@
 import type { Pathname } from '$app/types';
+import { mayAccess, routeAccess } from './access';
+import type { Role } from './roles';
 
-/** The main navigation, in Countersign's own words (see DEVELOPERS.md, "Words"). */
-export type NavItem = { href: Pathname; label: string };
+/** The main navigation, in Countersign's own words (GLOSSARY.md; DEVELOPERS.md, "Words"). */
+export type NavItem = { href: Pathname; label: string; route: keyof typeof routeAccess };
 
-/** Only pages that exist are listed; 2/10 filters them by the person's roles. */
-export const mainNav: NavItem[] = [
-	{ href: '/', label: 'Waiting for me' },
-	{ href: '/plant', label: 'Plant' }
+const items: NavItem[] = [
+	{ href: '/', label: 'Waiting for me', route: '/(app)' },
+	{ href: '/plant', label: 'Plant', route: '/(app)/plant' },
+	{ href: '/people', label: 'People and access', route: '/(app)/people' }
 ];
+
+/** Only what the person's roles may open (the server enforces the same table). */
+export function navFor(roles: readonly Role[]): NavItem[] {
+	return items.filter((item) => mayAccess(routeAccess[item.route], roles, true));
+}

@@ -34,7 +34,9 @@ describe('npm start with DATABASE_URL', () => {
 		delete env.ORIGIN;
 		const run = await start(env, appPort);
 		expect(run.output()).toContain('DATABASE_URL is set: using that server, no local cluster');
-		expect(run.output()).toContain('demo data seeded (1 site, 3 buildings, 9 areas added)');
+		expect(run.output()).toContain(
+			'demo data seeded (1 site, 3 buildings, 9 areas, 6 accounts added)'
+		);
 		expect(existsSync(join(dataDir, 'pg'))).toBe(false);
 
 		const [site] = await t.appSql`select code from sites`;

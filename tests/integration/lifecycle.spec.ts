@@ -37,7 +37,9 @@ describe('npm start, SIGTERM, npm start again', () => {
 		const run = await start(env, appPort);
 		expect(existsSync(join(dataDir, 'pg', 'PG_VERSION'))).toBe(true);
 		expect(run.output()).toContain('creating a PostgreSQL cluster');
-		expect(run.output()).toContain('demo data seeded (1 site, 3 buildings, 9 areas added)');
+		expect(run.output()).toContain(
+			'demo data seeded (1 site, 3 buildings, 9 areas, 6 accounts added)'
+		);
 
 		const page = await fetch(`http://127.0.0.1:${appPort}/plant`);
 		expect(await page.text()).toContain('Ostmere Fill-Finish Site');

@@ -1,9 +1,12 @@
-import { drizzle } from 'drizzle-orm/postgres-js';
+import type { PgDatabase } from 'drizzle-orm/pg-core';
+import { drizzle, type PostgresJsQueryResultHKT } from 'drizzle-orm/postgres-js';
 import postgres from 'postgres';
 import { env } from '$env/dynamic/private';
 import * as schema from './schema/index';
 
 export type Database = ReturnType<typeof createDatabase>;
+/** A Drizzle transaction, or a database handle where a function may run in either. */
+export type Transaction = PgDatabase<PostgresJsQueryResultHKT, typeof schema>;
 
 /** A Drizzle client over a postgres.js pool. The app connects as the application role. */
 export function createDatabase(url: string, options: { max?: number } = {}) {

@@ -1,5 +1,8 @@
 import { and, eq } from 'drizzle-orm';
 import type { PostgresJsDatabase } from 'drizzle-orm/postgres-js';
+import type { Role } from '../../roles';
+import { recordEvent } from '../audit/index';
+import { hashPassword } from '../auth/passwords';
 import * as schema from './schema/index';
 import type { AreaGrade } from './schema/index';
 
@@ -75,6 +78,82 @@ export async function seedDemoPlant(db: PostgresJsDatabase<typeof schema>): Prom
 				.onConflictDoNothing({ target: [schema.areas.buildingId, schema.areas.code] })
 				.returning({ id: schema.areas.id });
 			added.areas += inserted.length;
+		}
+		return added;
+	});
+}
+
+/**
+ * Demo accounts, one per role (two technicians, so that one can verify the other's step). The
+ * password is for the demo only and is printed in the README; invented people.
+ */
+export const DEMO_PASSWORD = 'lantern-harbour-orbit';
+export const demoAccounts: { username: string; fullName: string; email: string; roles: Role[] }[] =
+	[
+		{
+			username: 'tech1',
+			fullName: 'Tomas Verhoek',
+			email: 'tech1@ostmere.example',
+			roles: ['technician']
+		},
+		{
+			username: 'tech2',
+			fullName: 'Ines Calloway',
+			email: 'tech2@ostmere.example',
+			roles: ['technician']
+		},
+		{
+			username: 'planner',
+			fullName: 'Priya Lindqvist',
+			email: 'planner@ostmere.example',
+			roles: ['planner']
+		},
+		{
+			username: 'quality',
+			fullName: 'Quentin Aldous',
+			email: 'quality@ostmere.example',
+			roles: ['quality']
+		},
+		{
+			username: 'inspector',
+			fullName: 'Iris Moravec',
+			email: 'inspector@ostmere.example',
+			roles: ['inspector']
+		},
+		{
+			username: 'admin',
+			fullName: 'Adaeze Runström',
+			email: 'admin@ostmere.example',
+			roles: ['administrator']
+		}
+	];
+
+/** Adds the demo accounts that are missing, each with its audit event; returns how many it added. */
+export async function seedDemoAccounts(db: PostgresJsDatabase<typeof schema>): Promise<number> {
+	const passwordHash = await hashPassword(DEMO_PASSWORD);
+	return db.transaction(async (tx) => {
+		let added = 0;
+		for (const account of demoAccounts) {
+			const [row] = await tx
+				.insert(schema.accounts)
+				.values({ ...account, passwordHash })
+				.onConflictDoNothing({ target: schema.accounts.username })
+				.returning({ id: schema.accounts.id });
+			if (!row) continue;
+			added++;
+			await recordEvent(tx, {
+				actor: { kind: 'system', name: 'system: demo seed' },
+				action: 'account.create',
+				entityType: 'account',
+				entityId: row.id,
+				newValues: {
+					username: account.username,
+					fullName: account.fullName,
+					email: account.email,
+					roles: account.roles
+				},
+				reason: 'demo data'
+			});
 		}
 		return added;
 	});

@@ -1,2 +1,4 @@
 // One schema module per domain, re-exported here for the client and for drizzle-kit.
+export * from './accounts';
+export * from './audit';
 export * from './plant';

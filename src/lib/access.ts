@@ -1,0 +1,40 @@
+import type { RouteId } from '$app/types';
+import type { Role } from './roles';
+
+/**
+ * Who may open each route: the one table the server's guard enforces (hooks.server.ts) and the
+ * navigation reads. Typed over every route id, so a new route without a rule does not compile;
+ * tests/unit/route-rules.spec.ts also checks the route folders against it.
+ *
+ * - public: anyone, signed in or not
+ * - signed-in: any signed-in person, whatever their roles
+ * - a list of roles: a signed-in person holding at least one of them
+ * Actions and endpoints check again with requireRole() for what they do.
+ */
+export type Access = 'public' | 'signed-in' | readonly Role[];
+
+const readers: readonly Role[] = ['technician', 'planner', 'quality', 'inspector'];
+const administrators: readonly Role[] = ['administrator'];
+
+export const routeAccess = {
+	'/': 'signed-in',
+	'/login': 'public',
+	'/logout': 'public',
+	'/api': 'public',
+	'/api/v1': 'public',
+	'/api/v1/health': 'public',
+	'/api/[...path]': 'public',
+	'/(app)': 'signed-in',
+	'/(app)/account': 'signed-in',
+	'/(app)/plant': readers,
+	'/(app)/people': administrators,
+	'/(app)/people/new': administrators,
+	'/(app)/people/[id=uuid]': administrators
+} as const satisfies Record<RouteId, Access>;
+
+export function mayAccess(access: Access, roles: readonly Role[] | undefined, signedIn: boolean) {
+	if (access === 'public') return true;
+	if (!signedIn) return false;
+	if (access === 'signed-in') return true;
+	return (roles ?? []).some((role) => access.includes(role));
+}

@@ -1,0 +1,139 @@
+import { eq, sql } from 'drizzle-orm';
+import { recordEvent } from '../audit/index';
+import { db } from '../db/index';
+import { accounts } from '../db/schema/index';
+import { log } from '../log';
+import { decoyHash, verifyPassword } from './passwords';
+import { authSettings } from './settings';
+import { clearFailures, recordFailure, secondsToWait, throttleKeys } from './throttle';
+
+export type SignInResult =
+	| { ok: true; account: { id: string; username: string; name: string; email: string } }
+	| { ok: false; code: 'credentials' | 'locked' | 'throttled'; retryAfter?: number };
+
+export const normaliseUsername = (username: string) => username.trim().toLowerCase();
+
+/**
+ * One sign-in attempt, with every rule of REQUIREMENTS SE5 and AT7: the progressive delay per
+ * username and per address, the lockout after N consecutive failures (cleared only by an
+ * administrator), the same answer and the same work for an unknown username as for a wrong
+ * password, and an audit event for every failure. The session itself is opened by Auth.js's
+ * jwt callback (sessions.openSession), which records the sign-in.
+ */
+export async function attemptSignIn(input: {
+	username: string;
+	password: string;
+	clientAddress: string;
+}): Promise<SignInResult> {
+	const settings = authSettings();
+	const username = normaliseUsername(input.username);
+	const keys = throttleKeys(username, input.clientAddress, settings);
+	const anonymous = { kind: 'anonymous' } as const;
+
+	const wait = await secondsToWait(db(), keys, settings);
+	if (wait > 0) {
+		await recordEvent(db(), {
+			actor: anonymous,
+			action: 'auth.sign_in_failed',
+			entityType: 'account',
+			newValues: { username, reason: 'throttled', retryAfterSeconds: wait },
+			clientAddress: input.clientAddress
+		});
+		return { ok: false, code: 'throttled', retryAfter: wait };
+	}
+
+	const [account] = await db().select().from(accounts).where(eq(accounts.username, username));
+	if (account?.lockedAt) {
+		await recordEvent(db(), {
+			actor: anonymous,
+			action: 'auth.sign_in_failed',
+			entityType: 'account',
+			entityId: account.id,
+			newValues: { username, reason: 'locked' },
+			clientAddress: input.clientAddress
+		});
+		return { ok: false, code: 'locked' };
+	}
+
+	// Unknown usernames cost one argon2 verification too, so timing does not tell them apart.
+	const passwordMatches = await verifyPassword(
+		account?.passwordHash ?? (await decoyHash()),
+		input.password
+	);
+	const valid = Boolean(account?.active && passwordMatches);
+
+	if (!valid) {
+		return db().transaction(async (tx) => {
+			await recordFailure(tx, keys);
+			const reason = !account
+				? 'unknown_username'
+				: !account.active
+					? 'deactivated'
+					: 'wrong_password';
+			let failures: number | undefined;
+			let lockedNow = false;
+			if (account?.active) {
+				const [updated] = await tx
+					.update(accounts)
+					.set({ failedSignIns: sql`${accounts.failedSignIns} + 1` })
+					.where(eq(accounts.id, account.id))
+					.returning({ failures: accounts.failedSignIns });
+				failures = updated!.failures;
+				lockedNow = failures >= settings.AUTH_LOCKOUT_FAILURES;
+			}
+			await recordEvent(tx, {
+				actor: anonymous,
+				action: 'auth.sign_in_failed',
+				entityType: 'account',
+				entityId: account?.id ?? null,
+				newValues: {
+					username,
+					reason,
+					...(failures === undefined ? {} : { consecutiveFailures: failures })
+				},
+				clientAddress: input.clientAddress
+			});
+			if (lockedNow && account) {
+				await tx
+					.update(accounts)
+					.set({ lockedAt: sql`now()` })
+					.where(eq(accounts.id, account.id));
+				await recordEvent(tx, {
+					actor: { kind: 'system', name: 'system: sign-in guard' },
+					action: 'auth.lockout',
+					entityType: 'account',
+					entityId: account.id,
+					newValues: { username, consecutiveFailures: failures, locked: true },
+					previousValues: { locked: false },
+					reason: `${failures} consecutive failed sign-ins`,
+					clientAddress: input.clientAddress
+				});
+				// E-mail to the administrators arrives with 7/10; until then the log and their queue show it.
+				log.warn('account locked after failed sign-ins', {
+					accountId: account.id,
+					username,
+					failures
+				});
+				return { ok: false, code: 'locked' } as const;
+			}
+			return { ok: false, code: 'credentials' } as const;
+		});
+	}
+
+	await db().transaction(async (tx) => {
+		await clearFailures(tx, keys);
+		await tx
+			.update(accounts)
+			.set({ failedSignIns: 0, lastSignInAt: sql`now()` })
+			.where(eq(accounts.id, account!.id));
+	});
+	return {
+		ok: true,
+		account: {
+			id: account!.id,
+			username: account!.username,
+			name: account!.fullName,
+			email: account!.email
+		}
+	};
+}

@@ -1,0 +1,5 @@
+import type { ParamMatcher } from '@sveltejs/kit';
+
+/** A UUID in its canonical text form; anything else is a 404 before any query runs. */
+export const match: ParamMatcher = (param) =>
+	/^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i.test(param);
