@@ -36,7 +36,10 @@ export async function runMigrations(/** @type {string} */ ownerUrl) {
  */
 export async function runSeed(/** @type {string} */ ownerUrl) {
 	/** @type {typeof import('../../src/lib/server/db/seed.ts')} */
-	const { seedDemoAccounts, seedDemoPlant } = await tsImport('../../src/lib/server/db/seed.ts', import.meta.url);
+	const { seedDemoAccounts, seedDemoPlant } = await tsImport(
+		'../../src/lib/server/db/seed.ts',
+		import.meta.url
+	);
 	/** @type {typeof import('../../src/lib/server/db/schema/index.ts')} */
 	const schema = await tsImport('../../src/lib/server/db/schema/index.ts', import.meta.url);
 	const sql = connect(ownerUrl);

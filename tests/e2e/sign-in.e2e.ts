@@ -147,6 +147,7 @@ test('five failed sign-ins lock the account; an administrator unlocks it with a 
 	browser,
 	page
 }) => {
+	test.setTimeout(90_000); // a whole journey: create, first sign-in, password change, …
 	const admin = await signedInPage(browser, 'admin');
 	const username = uniqueUsername('e2e-lock');
 	const password = await readyAccount(browser, admin, {
@@ -169,13 +170,13 @@ test('five failed sign-ins lock the account; an administrator unlocks it with a 
 	await expect(admin.getByRole('region', { name: /Locked accounts/ })).toContainText(username);
 	await admin.getByRole('link', { name: new RegExp(username) }).click();
 	await expect(admin.locator('main p').getByText('Locked', { exact: true })).toBeVisible();
-	await admin.getByRole('button', { name: 'Unlock the account' }).click();
-	await expect(admin.getByText('Give a reason: it is kept in the audit trail.')).toBeVisible();
-	await admin
+	const unlock = admin.getByRole('region', { name: 'Unlock' });
+	await unlock.getByRole('button', { name: 'Unlock the account' }).click();
+	await expect(unlock.getByText('Give a reason: it is kept in the audit trail.')).toBeVisible();
+	await unlock
 		.getByLabel('Reason for the change')
-		.first()
 		.fill('Confirmed by phone that the person mistyped.');
-	await admin.getByRole('button', { name: 'Unlock the account' }).click();
+	await unlock.getByRole('button', { name: 'Unlock the account' }).click();
 	await expect(admin.getByRole('status').filter({ hasText: 'Account unlocked.' })).toBeVisible();
 	await shot(admin, 'people-detail-unlocked');
 
@@ -184,6 +185,7 @@ test('five failed sign-ins lock the account; an administrator unlocks it with a 
 });
 
 test('deactivation ends the person’s session at their very next request', async ({ browser }) => {
+	test.setTimeout(90_000); // a whole journey: create, first sign-in, password change, …
 	const admin = await signedInPage(browser, 'admin');
 	const username = uniqueUsername('e2e-deact');
 	const password = await readyAccount(browser, admin, {

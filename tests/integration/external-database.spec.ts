@@ -4,7 +4,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { clusterRunning } from '../../scripts/lib/cluster.js';
 import { root } from '../../scripts/lib/local.js';
 import { freshDatabase, type TestDatabase } from './helpers/database';
-import { start, stop } from './helpers/start';
+import { start, stop, stopAll } from './helpers/start';
 
 // DATABASE_URL pointing at an existing server skips the local cluster (issue 1/10, item 2):
 // npm start migrates through MIGRATION_DATABASE_URL, seeds the empty database and serves,
@@ -18,6 +18,7 @@ beforeAll(async () => {
 	t = await freshDatabase();
 });
 afterAll(async () => {
+	await stopAll();
 	rmSync(dataDir, { recursive: true, force: true });
 	await t?.drop();
 });

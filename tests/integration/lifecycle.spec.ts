@@ -4,7 +4,9 @@ import { join } from 'node:path';
 import postgres from 'postgres';
 import { afterAll, describe, expect, it } from 'vitest';
 import { root } from '../../scripts/lib/local.js';
-import { listening, start, stop } from './helpers/start';
+import { DEMO_PASSWORD } from '../../src/lib/server/db/seed';
+import { signInOverHttp } from './helpers/served-app';
+import { listening, start, stop, stopAll } from './helpers/start';
 
 // `npm start` end to end on a data folder of its own: first start creates the cluster, the
 // database and the demo plant; SIGTERM stops the app and PostgreSQL; a second start reuses
@@ -30,7 +32,10 @@ function superuserSql() {
 }
 
 rmSync(dataDir, { recursive: true, force: true });
-afterAll(() => rmSync(dataDir, { recursive: true, force: true }));
+afterAll(async () => {
+	await stopAll();
+	rmSync(dataDir, { recursive: true, force: true });
+});
 
 describe('npm start, SIGTERM, npm start again', () => {
 	it('first start: a cluster under the data folder, the demo plant, the app on PORT', async () => {
@@ -41,7 +46,10 @@ describe('npm start, SIGTERM, npm start again', () => {
 			'demo data seeded (1 site, 3 buildings, 9 areas, 6 accounts added)'
 		);
 
-		const page = await fetch(`http://127.0.0.1:${appPort}/plant`);
+		// The demo accounts exist: tech1 signs in over HTTP and reads the demo plant.
+		const origin = `http://127.0.0.1:${appPort}`;
+		const { cookie } = await signInOverHttp(origin, 'tech1', DEMO_PASSWORD);
+		const page = await fetch(`${origin}/plant`, { headers: { cookie: cookie! } });
 		expect(await page.text()).toContain('Ostmere Fill-Finish Site');
 
 		// A marker row, written outside the app, must survive the restart.

@@ -17,7 +17,11 @@ beforeAll(async () => {
 });
 afterAll(async () => t?.drop());
 beforeEach(() => {
-	setEnv({ AUTH_DELAY_FREE_PER_USERNAME: '100', AUTH_DELAY_FREE_PER_ADDRESS: '100', AUTH_LOCKOUT_FAILURES: '5' });
+	setEnv({
+		AUTH_DELAY_FREE_PER_USERNAME: '100',
+		AUTH_DELAY_FREE_PER_ADDRESS: '100',
+		AUTH_LOCKOUT_FAILURES: '5'
+	});
 });
 
 const events = (username: string) =>

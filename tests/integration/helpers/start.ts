@@ -4,6 +4,21 @@ import { root } from '../../../scripts/lib/local.js';
 
 export type Started = { child: ChildProcess; output: () => string };
 
+const running = new Set<ChildProcess>();
+/** Stops whatever a failed test left running (SIGTERM: the app, then its database). */
+export async function stopAll() {
+	await Promise.all(
+		[...running].map(
+			(child) =>
+				new Promise((resolve) =>
+					child.exitCode !== null
+						? resolve(null)
+						: (child.once('exit', resolve), child.kill('SIGTERM'))
+				)
+		)
+	);
+}
+
 /** Runs `npm start` (scripts/start.js) with the environment given; resolves once health is 200. */
 export function start(env: NodeJS.ProcessEnv, appPort: number): Promise<Started> {
 	const child = spawn(process.execPath, ['scripts/start.js'], {
@@ -11,6 +26,8 @@ export function start(env: NodeJS.ProcessEnv, appPort: number): Promise<Started>
 		env,
 		stdio: ['ignore', 'pipe', 'pipe']
 	});
+	running.add(child);
+	child.once('exit', () => running.delete(child));
 	let output = '';
 	child.stdout!.on('data', (d) => (output += d));
 	child.stderr!.on('data', (d) => (output += d));

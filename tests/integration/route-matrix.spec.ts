@@ -1,0 +1,149 @@
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { mayAccess, routeAccess, type Access } from '../../src/lib/access';
+import type { Role } from '../../src/lib/roles';
+import {
+	DEMO_PASSWORD,
+	demoAccounts,
+	seedDemoAccounts,
+	seedDemoPlant
+} from '../../src/lib/server/db/seed';
+import { freshDatabase, type TestDatabase } from './helpers/database';
+import { serveBuiltApp, signInOverHttp } from './helpers/served-app';
+
+// The role × route matrix (REQUIREMENTS AC1; issue 2/10): every route that exists, requested by
+// every demo role and by an anonymous client, over HTTP against the built app. The expected
+// answer comes from $lib/access, whose completeness tests/unit/route-rules.spec.ts checks.
+let t: TestDatabase;
+let app: Awaited<ReturnType<typeof serveBuiltApp>>;
+const cookies = new Map<string, string>();
+let someAccountId = '';
+
+beforeAll(async () => {
+	t = await freshDatabase();
+	await seedDemoPlant(t.owner);
+	await seedDemoAccounts(t.owner);
+	[{ id: someAccountId }] =
+		(await t.ownerSql`select id from accounts where username = 'tech1'`) as unknown as [
+			{ id: string }
+		];
+	app = await serveBuiltApp(t.appUrl, 3191);
+	for (const account of demoAccounts) {
+		const signedIn = await signInOverHttp(app.origin, account.username, DEMO_PASSWORD);
+		expect(signedIn.cookie, account.username).toBeTruthy();
+		cookies.set(account.username, signedIn.cookie!);
+	}
+});
+afterAll(async () => {
+	await app?.stop();
+	await t?.drop();
+});
+
+/** A concrete path for each route id that serves requests (layout-only ids have none). */
+const paths = (): Record<string, string> => ({
+	'/(app)': '/',
+	'/(app)/account': '/account',
+	'/(app)/plant': '/plant',
+	'/(app)/people': '/people',
+	'/(app)/people/new': '/people/new',
+	'/(app)/people/[id=uuid]': `/people/${someAccountId}`,
+	'/login': '/login',
+	'/logout': '/logout',
+	'/api/v1/health': '/api/v1/health',
+	'/api/[...path]': '/api/v1/no-such-thing'
+});
+const layoutsOnly = ['/', '/api', '/api/v1'];
+
+const get = (path: string, cookie?: string) =>
+	fetch(`${app.origin}${path}`, { redirect: 'manual', headers: cookie ? { cookie } : {} });
+
+describe('role × route matrix', () => {
+	it('covers every route id in the access table', () => {
+		const covered = [...Object.keys(paths()), ...layoutsOnly].sort();
+		expect(covered).toEqual(Object.keys(routeAccess).sort());
+	});
+
+	const who: { name: string; username?: string; roles: Role[] }[] = [
+		{ name: 'anonymous', roles: [] },
+		...demoAccounts.map((a) => ({ name: a.username, username: a.username, roles: a.roles }))
+	];
+
+	for (const person of who) {
+		it(`${person.name}: every page and API route answers as its rule says`, async () => {
+			const cookie = person.username ? cookies.get(person.username) : undefined;
+			for (const [routeId, path] of Object.entries(paths())) {
+				const access = routeAccess[routeId as keyof typeof routeAccess] as Access;
+				const response = await get(path, cookie);
+				const allowed = mayAccess(access, person.roles, Boolean(cookie));
+				const where = `${person.name} GET ${path} (${routeId})`;
+				if (allowed) {
+					expect([401, 403], where).not.toContain(response.status);
+					expect(response.status, where).toBeLessThan(500);
+				} else if (!cookie && path.startsWith('/api/')) {
+					expect(response.status, where).toBe(401);
+					expect(await response.json(), where).toEqual({ message: 'Sign in first' });
+				} else if (!cookie) {
+					expect(response.status, where).toBe(303);
+					expect(response.headers.get('location'), where).toMatch(/^\/login\?callbackUrl=/);
+				} else {
+					expect(response.status, where).toBe(403);
+				}
+			}
+		});
+	}
+
+	it('an inspector’s POST to an administration action is refused with 403 and audited (AC1, AT7)', async () => {
+		const response = await fetch(`${app.origin}/people/new`, {
+			method: 'POST',
+			redirect: 'manual',
+			headers: {
+				origin: app.origin,
+				cookie: cookies.get('inspector')!,
+				'content-type': 'application/x-www-form-urlencoded'
+			},
+			body: new URLSearchParams({
+				username: 'intruder',
+				fullName: 'Not Allowed',
+				email: 'x@example.org',
+				roles: 'administrator'
+			})
+		});
+		expect(response.status).toBe(403);
+		const created = await t.ownerSql`select 1 from accounts where username = 'intruder'`;
+		expect(created).toHaveLength(0);
+		const [denied] = await t.ownerSql`select actor_name, new_values from audit_event
+			where action = 'auth.access_denied' and new_values->>'method' = 'POST' order by seq desc limit 1`;
+		expect(denied).toMatchObject({
+			actor_name: 'Iris Moravec',
+			new_values: { path: '/people/new' }
+		});
+	});
+
+	it('an anonymous POST to an action goes nowhere', async () => {
+		const response = await fetch(`${app.origin}/people/new`, {
+			method: 'POST',
+			redirect: 'manual',
+			// A browser's own form post (no JavaScript): SvelteKit answers it with a real redirect.
+			headers: {
+				origin: app.origin,
+				accept: 'text/html',
+				'content-type': 'application/x-www-form-urlencoded'
+			},
+			body: new URLSearchParams({
+				username: 'intruder2',
+				fullName: 'Nobody',
+				email: 'x@example.org',
+				roles: 'technician'
+			})
+		});
+		expect(response.status).toBe(303);
+		expect(response.headers.get('location')).toBe('/login?callbackUrl=%2Fpeople%2Fnew');
+		expect(await t.ownerSql`select 1 from accounts where username = 'intruder2'`).toHaveLength(0);
+	});
+
+	it('GET /auth/session answers the signed-in person with roles, from any HTTP client', async () => {
+		const response = await get('/auth/session', cookies.get('quality'));
+		expect(await response.json()).toMatchObject({
+			user: { username: 'quality', roles: ['quality'], name: 'Quentin Aldous' }
+		});
+	});
+});
