@@ -109,6 +109,26 @@ test('a new account: one-time password, forced change at first sign-in, then its
 	browser
 }) => {
 	const admin = await signedInPage(browser, 'admin');
+	// Bad input first: every message stands beside its field, and nothing is created.
+	await admin.goto('/people/new');
+	await admin.getByLabel('Username').fill('No Spaces Allowed');
+	await admin.getByLabel('E-mail').fill('not-an-address');
+	await admin.getByRole('button', { name: 'Create the account' }).click();
+	await expect(admin.getByText(/2–32 characters: lowercase letters/).last()).toBeVisible();
+	await expect(
+		admin.getByText('Enter the person’s full name as it should print on signatures.')
+	).toBeVisible();
+	await expect(admin.getByText('Enter an e-mail address such as name@example.org.')).toBeVisible();
+	await expect(admin.getByText('Choose at least one role.')).toBeVisible();
+	await shot(admin, 'people-new-errors');
+	// A username that exists already (never reused, ES5).
+	await admin.getByLabel('Username').fill('tech1');
+	await admin.getByLabel('Full name').fill('Someone Else');
+	await admin.getByLabel('E-mail').fill('someone@ostmere.example');
+	await admin.getByRole('checkbox', { name: /^Technician/ }).check();
+	await admin.getByRole('button', { name: 'Create the account' }).click();
+	await expect(admin.getByText(/This username has been used before/)).toBeVisible();
+
 	const username = uniqueUsername('e2e-new');
 	const oneTime = await createAccountAsAdmin(admin, {
 		username,
