@@ -13,7 +13,7 @@ export default defineConfig({
 	fullyParallel: true,
 	workers: 2,
 	retries: 0,
-	timeout: 30_000,
+	timeout: 60_000,
 	reporter: [['list'], ['json', { outputFile: 'test-results/e2e-results.json' }]],
 	use: {
 		baseURL: origin,

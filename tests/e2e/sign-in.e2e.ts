@@ -108,6 +108,7 @@ test('an idle session ends on the next request', async ({ page }) => {
 test('a new account: one-time password, forced change at first sign-in, then its own password', async ({
 	browser
 }) => {
+	test.setTimeout(90_000); // a whole journey: bad input, create, first sign-in, password change
 	const admin = await signedInPage(browser, 'admin');
 	// Bad input first: every message stands beside its field, and nothing is created.
 	await admin.goto('/people/new');

@@ -1,7 +1,7 @@
 import { asc, eq, sql } from 'drizzle-orm';
 import { randomInt } from 'node:crypto';
 import type { Role } from '$lib/roles';
-import { recordEvent, type Actor } from './audit/index';
+import { recordEvent, recordEventNow, type Actor } from './audit/index';
 import type { User } from './auth/guard';
 import { hashPassword, passwordProblems, verifyPassword } from './auth/passwords';
 import { endSessionsOf } from './auth/sessions';
@@ -256,7 +256,7 @@ export async function changeOwnPassword(
 ) {
 	const account = await load(user.id);
 	if (!(await verifyPassword(account.passwordHash, input.currentPassword))) {
-		await recordEvent(db(), {
+		await recordEventNow({
 			actor: person(user),
 			action: 'account.password_change_failed',
 			entityType: 'account',

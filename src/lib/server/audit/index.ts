@@ -1,6 +1,8 @@
+import { sql } from 'drizzle-orm';
 import type { Role } from '$lib/roles';
+import { db, type Transaction } from '../db/index';
 import { auditEvent } from '../db/schema/index';
-import type { Transaction } from '../db/index';
+import { chainHash, type ChainFields } from './chain';
 
 /** Who did it: a person (with the printed name and roles at that moment), a system job, or nobody known. */
 export type Actor =
@@ -20,28 +22,72 @@ export type AuditInput = {
 	clientAddress?: string | null;
 };
 
+/** Text the trail cannot hold faithfully: NUL (PostgreSQL refuses it) or a lone UTF-16 surrogate. */
+function unstorable(value: unknown): boolean {
+	if (typeof value === 'string') return value.includes('\u0000') || !value.isWellFormed();
+	if (Array.isArray(value)) return value.some(unstorable);
+	if (value && typeof value === 'object') return Object.entries(value).some(([k, v]) => unstorable(k) || unstorable(v));
+	if (typeof value === 'number') return !Number.isFinite(value);
+	return false;
+}
+
+export class AuditInputError extends Error {}
+
 /**
- * Appends one event to the audit trail inside the caller's transaction, so that the event and
- * the change it describes commit or roll back together. Every account and sign-in event goes
- * through here; 3/10 chains the events by hash.
+ * Appends one event to the hash-chained audit trail inside the caller's transaction: the chain
+ * head is locked (FOR UPDATE) until that transaction ends, so concurrent writers queue in one
+ * line, `seq` has no gaps, and a rolled-back transaction leaves no event. `at` is the database
+ * clock once the lock is held, to the millisecond. Call it inside `db().transaction(...)`.
  */
 export async function recordEvent(tx: Transaction, input: AuditInput) {
 	const { actor } = input;
-	const [row] = await tx
-		.insert(auditEvent)
-		.values({
-			actorKind: actor.kind,
-			actorId: actor.kind === 'person' ? actor.id : null,
-			actorName: actor.kind === 'person' || actor.kind === 'system' ? actor.name : 'unknown',
-			actorRoles: actor.kind === 'person' ? [...actor.roles] : [],
-			action: input.action,
-			entityType: input.entityType,
-			entityId: input.entityId ?? null,
-			newValues: input.newValues ?? null,
-			previousValues: input.previousValues ?? null,
-			reason: input.reason ?? null,
-			clientAddress: input.clientAddress ?? null
-		})
-		.returning({ seq: auditEvent.seq, at: auditEvent.at });
-	return row!;
+	if (unstorable(input)) throw new AuditInputError('the event holds text or numbers the audit trail cannot store exactly');
+	const [head] = (await tx.execute(
+		sql`select seq, encode(hash, 'hex') as hash, date_trunc('milliseconds', clock_timestamp()) as now
+			from audit_chain_head where id = 1 for update`
+	)) as unknown as { seq: string | number; hash: string; now: Date }[];
+	if (!head) throw new Error('the audit chain head is missing (migration 0004)');
+
+	// JSON values are stored in jsonb and read back for verification: store exactly what was hashed.
+	const json = (v: Record<string, unknown> | null | undefined) => (v == null ? null : JSON.parse(JSON.stringify(v)));
+	const fields: ChainFields = {
+		seq: Number(head.seq) + 1,
+		at: new Date(head.now).toISOString(),
+		actor_kind: actor.kind,
+		actor_id: actor.kind === 'person' ? actor.id : null,
+		actor_name: actor.kind === 'anonymous' ? 'unknown' : actor.name,
+		actor_roles: actor.kind === 'person' ? [...actor.roles] : [],
+		action: input.action,
+		entity_type: input.entityType,
+		entity_id: input.entityId ?? null,
+		new_values: json(input.newValues),
+		previous_values: json(input.previousValues),
+		reason: input.reason ?? null,
+		client_address: input.clientAddress ?? null
+	};
+	const hash = chainHash(head.hash, fields);
+	await tx.insert(auditEvent).values({
+		seq: fields.seq,
+		at: new Date(fields.at),
+		actorKind: fields.actor_kind,
+		actorId: fields.actor_id,
+		actorName: fields.actor_name,
+		actorRoles: fields.actor_roles,
+		action: fields.action,
+		entityType: fields.entity_type,
+		entityId: fields.entity_id,
+		newValues: fields.new_values,
+		previousValues: fields.previous_values,
+		reason: fields.reason,
+		clientAddress: fields.client_address,
+		prevHash: head.hash,
+		hash
+	});
+	await tx.execute(sql`update audit_chain_head set seq = ${fields.seq}, hash = decode(${hash}, 'hex') where id = 1`);
+	return { seq: fields.seq, at: fields.at, hash };
+}
+
+/** One event in a transaction of its own, for events that accompany no other change. */
+export function recordEventNow(input: AuditInput) {
+	return db().transaction((tx) => recordEvent(tx, input));
 }

@@ -1,8 +1,7 @@
 import { error, json, redirect, type Handle, type RequestEvent } from '@sveltejs/kit';
 import { mayAccess, routeAccess, type Access } from '$lib/access';
 import type { Role } from '$lib/roles';
-import { recordEvent } from '../audit/index';
-import { db } from '../db/index';
+import { recordEventNow } from '../audit/index';
 
 export type User = {
 	id: string;
@@ -20,7 +19,7 @@ const allowedDuringPasswordChange = new Set(['/(app)/account', '/logout', '/logi
 
 /** Records a refused request (REQUIREMENTS AT7: failed authorisations are events). */
 async function recordDenied(event: RequestEvent, user: User, needed: Access | string) {
-	await recordEvent(db(), {
+	await recordEventNow({
 		actor: { kind: 'person', id: user.id, name: user.name, roles: user.roles },
 		action: 'auth.access_denied',
 		entityType: 'route',

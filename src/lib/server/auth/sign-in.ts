@@ -1,5 +1,5 @@
 import { eq, sql } from 'drizzle-orm';
-import { recordEvent } from '../audit/index';
+import { recordEvent, recordEventNow } from '../audit/index';
 import { db } from '../db/index';
 import { accounts } from '../db/schema/index';
 import { log } from '../log';
@@ -32,7 +32,7 @@ export async function attemptSignIn(input: {
 
 	const wait = await secondsToWait(db(), keys, settings);
 	if (wait > 0) {
-		await recordEvent(db(), {
+		await recordEventNow({
 			actor: anonymous,
 			action: 'auth.sign_in_failed',
 			entityType: 'account',
@@ -44,7 +44,7 @@ export async function attemptSignIn(input: {
 
 	const [account] = await db().select().from(accounts).where(eq(accounts.username, username));
 	if (account?.lockedAt) {
-		await recordEvent(db(), {
+		await recordEventNow({
 			actor: anonymous,
 			action: 'auth.sign_in_failed',
 			entityType: 'account',

@@ -1,27 +1,32 @@
 import { sql } from 'drizzle-orm';
-import { bigserial, check, jsonb, pgTable, text, timestamp } from 'drizzle-orm/pg-core';
+import { bigint, check, customType, integer, jsonb, pgTable, text, timestamp } from 'drizzle-orm/pg-core';
+
+/** 32 raw bytes in the database (bytea), hex text in JavaScript. */
+const sha256 = customType<{ data: string; driverData: Buffer }>({
+	dataType: () => 'bytea',
+	toDriver: (hex) => Buffer.from(hex, 'hex'),
+	fromDriver: (bytes) => Buffer.from(bytes).toString('hex')
+});
 
 /**
- * The audit trail: one append-only table of events (UPDATE, DELETE and TRUNCATE are rejected by
- * a trigger for every role, the owner included). 3/10 adds the hash chain and a gapless seq.
+ * The audit trail: one append-only, hash-chained table of events (shared/DESIGN.md "Records,
+ * audit trail, signatures"; README "The audit trail" lists the hashed fields). UPDATE, DELETE and
+ * TRUNCATE are rejected by a trigger for every role, the owner included; the app role may only
+ * INSERT and SELECT. `seq` is gapless: it comes from the chain head, taken under a row lock in the
+ * same transaction as the event (src/lib/server/audit/index.ts).
  */
 export const auditEvent = pgTable(
 	'audit_event',
 	{
-		seq: bigserial('seq', { mode: 'number' }).primaryKey(),
-		/** The database clock, millisecond precision (round-trips exactly through JavaScript). */
-		at: timestamp('at', { withTimezone: true, precision: 3 })
-			.notNull()
-			.default(sql`now()`),
+		seq: bigint('seq', { mode: 'number' }).primaryKey(),
+		/** The database clock when the event was appended, millisecond precision (exact in JavaScript). */
+		at: timestamp('at', { withTimezone: true, precision: 3 }).notNull(),
 		/** person · system · anonymous (a sign-in attempt nobody could be matched to) */
 		actorKind: text('actor_kind').notNull(),
 		actorId: text('actor_id'),
 		/** The printed name at that time (an account's full name may change later). */
 		actorName: text('actor_name').notNull(),
-		actorRoles: text('actor_roles')
-			.array()
-			.notNull()
-			.default(sql`'{}'::text[]`),
+		actorRoles: text('actor_roles').array().notNull(),
 		/** Lowercase dotted words: auth.sign_in, account.create, … */
 		action: text('action').notNull(),
 		entityType: text('entity_type').notNull(),
@@ -29,10 +34,25 @@ export const auditEvent = pgTable(
 		newValues: jsonb('new_values'),
 		previousValues: jsonb('previous_values'),
 		reason: text('reason'),
-		clientAddress: text('client_address')
+		clientAddress: text('client_address'),
+		prevHash: sha256('prev_hash').notNull(),
+		hash: sha256('hash').notNull().unique()
 	},
 	(t) => [
 		check('audit_event_action_form', sql`${t.action} ~ '^[a-z][a-z_]*(\\.[a-z][a-z_]*)+$'`),
-		check('audit_event_actor_kind', sql`${t.actorKind} in ('person', 'system', 'anonymous')`)
+		check('audit_event_actor_kind', sql`${t.actorKind} in ('person', 'system', 'anonymous')`),
+		check('audit_event_seq_positive', sql`${t.seq} > 0`),
+		check('audit_event_hash_length', sql`octet_length(${t.hash}) = 32 and octet_length(${t.prevHash}) = 32`)
 	]
+);
+
+/** The one chain head: the last event's seq and hash. Locked (FOR UPDATE) by every append. */
+export const auditChainHead = pgTable(
+	'audit_chain_head',
+	{
+		id: integer('id').primaryKey(),
+		seq: bigint('seq', { mode: 'number' }).notNull(),
+		hash: sha256('hash').notNull()
+	},
+	(t) => [check('audit_chain_head_single', sql`${t.id} = 1`)]
 );
