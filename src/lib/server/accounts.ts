@@ -1,7 +1,8 @@
 import { asc, eq, sql } from 'drizzle-orm';
 import { randomInt } from 'node:crypto';
 import type { Role } from '$lib/roles';
-import { recordEvent, recordEventNow, type Actor } from './audit/index';
+import { recordEvent, type Actor } from './audit/index';
+import { recordEventNow } from './audit/now';
 import type { User } from './auth/guard';
 import { hashPassword, passwordProblems, verifyPassword } from './auth/passwords';
 import { endSessionsOf } from './auth/sessions';

@@ -56,11 +56,18 @@ export function canonicalText(fields: ChainFields): string {
 
 export function chainHash(prevHashHex: string, fields: ChainFields): string {
 	if (!/^[0-9a-f]{64}$/.test(prevHashHex)) throw new Error('prev_hash must be 32 bytes of hex');
-	return createHash('sha256').update(Buffer.from(prevHashHex, 'hex')).update(canonicalText(fields), 'utf8').digest('hex');
+	return createHash('sha256')
+		.update(Buffer.from(prevHashHex, 'hex'))
+		.update(canonicalText(fields), 'utf8')
+		.digest('hex');
 }
 
 /** A stored row (postgres.js, snake_case columns; `at` a Date, hashes hex) as the hashed fields. */
-export type StoredEvent = Omit<ChainFields, 'at'> & { at: Date | string; prev_hash: string; hash: string };
+export type StoredEvent = Omit<ChainFields, 'at'> & {
+	at: Date | string;
+	prev_hash: string;
+	hash: string;
+};
 
 export function fieldsOf(row: StoredEvent): ChainFields {
 	return {
@@ -81,10 +88,15 @@ export function fieldsOf(row: StoredEvent): ChainFields {
 }
 
 /** What was found wrong with an event, in words; null when it holds. */
-export function checkEvent(row: StoredEvent, expectedSeq: number, expectedPrev: string): string | null {
+export function checkEvent(
+	row: StoredEvent,
+	expectedSeq: number,
+	expectedPrev: string
+): string | null {
 	const seq = Number(row.seq);
 	if (seq !== expectedSeq) return `gap in seq: expected ${expectedSeq}, found ${seq}`;
-	if (row.prev_hash !== expectedPrev) return `broken link: prev_hash does not match the hash of event ${expectedSeq - 1}`;
+	if (row.prev_hash !== expectedPrev)
+		return `broken link: prev_hash does not match the hash of event ${expectedSeq - 1}`;
 	let computed: string;
 	try {
 		computed = chainHash(row.prev_hash, fieldsOf(row));

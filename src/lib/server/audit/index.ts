@@ -1,6 +1,6 @@
 import { sql } from 'drizzle-orm';
 import type { Role } from '$lib/roles';
-import { db, type Transaction } from '../db/index';
+import type { Transaction } from '../db/index';
 import { auditEvent } from '../db/schema/index';
 import { chainHash, type ChainFields } from './chain';
 
@@ -26,7 +26,8 @@ export type AuditInput = {
 function unstorable(value: unknown): boolean {
 	if (typeof value === 'string') return value.includes('\u0000') || !value.isWellFormed();
 	if (Array.isArray(value)) return value.some(unstorable);
-	if (value && typeof value === 'object') return Object.entries(value).some(([k, v]) => unstorable(k) || unstorable(v));
+	if (value && typeof value === 'object')
+		return Object.entries(value).some(([k, v]) => unstorable(k) || unstorable(v));
 	if (typeof value === 'number') return !Number.isFinite(value);
 	return false;
 }
@@ -41,7 +42,10 @@ export class AuditInputError extends Error {}
  */
 export async function recordEvent(tx: Transaction, input: AuditInput) {
 	const { actor } = input;
-	if (unstorable(input)) throw new AuditInputError('the event holds text or numbers the audit trail cannot store exactly');
+	if (unstorable(input))
+		throw new AuditInputError(
+			'the event holds text or numbers the audit trail cannot store exactly'
+		);
 	const [head] = (await tx.execute(
 		sql`select seq, encode(hash, 'hex') as hash, date_trunc('milliseconds', clock_timestamp()) as now
 			from audit_chain_head where id = 1 for update`
@@ -49,7 +53,8 @@ export async function recordEvent(tx: Transaction, input: AuditInput) {
 	if (!head) throw new Error('the audit chain head is missing (migration 0004)');
 
 	// JSON values are stored in jsonb and read back for verification: store exactly what was hashed.
-	const json = (v: Record<string, unknown> | null | undefined) => (v == null ? null : JSON.parse(JSON.stringify(v)));
+	const json = (v: Record<string, unknown> | null | undefined) =>
+		v == null ? null : JSON.parse(JSON.stringify(v));
 	const fields: ChainFields = {
 		seq: Number(head.seq) + 1,
 		at: new Date(head.now).toISOString(),
@@ -83,11 +88,8 @@ export async function recordEvent(tx: Transaction, input: AuditInput) {
 		prevHash: head.hash,
 		hash
 	});
-	await tx.execute(sql`update audit_chain_head set seq = ${fields.seq}, hash = decode(${hash}, 'hex') where id = 1`);
+	await tx.execute(
+		sql`update audit_chain_head set seq = ${fields.seq}, hash = decode(${hash}, 'hex') where id = 1`
+	);
 	return { seq: fields.seq, at: fields.at, hash };
-}
-
-/** One event in a transaction of its own, for events that accompany no other change. */
-export function recordEventNow(input: AuditInput) {
-	return db().transaction((tx) => recordEvent(tx, input));
 }

@@ -23,12 +23,17 @@ const columns = (sql: Sql) => sql`
  */
 export async function verifyChain(
 	sql: Sql,
-	{ batchSize = 2000, onProgress }: { batchSize?: number; onProgress?: (checked: number, total: number) => void } = {}
+	{
+		batchSize = 2000,
+		onProgress
+	}: { batchSize?: number; onProgress?: (checked: number, total: number) => void } = {}
 ): Promise<Verification> {
 	const [{ total, headSeq, headHash }] = (await sql`
 		select (select count(*) from audit_event)::int8 as "total",
 		       seq::int8 as "headSeq", encode(hash, 'hex') as "headHash"
-		from audit_chain_head where id = 1`) as unknown as [{ total: string; headSeq: string; headHash: string }];
+		from audit_chain_head where id = 1`) as unknown as [
+		{ total: string; headSeq: string; headHash: string }
+	];
 	let expectedSeq = 1;
 	let prev = GENESIS;
 	let checked = 0;
@@ -38,7 +43,13 @@ export async function verifyChain(
 		for (const row of rows) {
 			checked++;
 			const problem = checkEvent(row, expectedSeq, prev);
-			if (problem) return { ok: false, events: checked, firstBadSeq: problem.startsWith('gap') ? expectedSeq : Number(row.seq), problem };
+			if (problem)
+				return {
+					ok: false,
+					events: checked,
+					firstBadSeq: problem.startsWith('gap') ? expectedSeq : Number(row.seq),
+					problem
+				};
 			prev = row.hash;
 			expectedSeq++;
 		}
@@ -60,15 +71,30 @@ export async function verifyChain(
  * Verifies the events of one record: each event's own hash from its columns, and its link to
  * the event just before it in the chain (whatever record that one belongs to).
  */
-export async function verifyEntity(sql: Sql, entityType: string, entityId: string): Promise<Verification> {
+export async function verifyEntity(
+	sql: Sql,
+	entityType: string,
+	entityId: string
+): Promise<Verification> {
 	const rows = (await sql`select ${columns(sql)} from audit_event
 		where entity_type = ${entityType} and entity_id = ${entityId} order by seq`) as unknown as StoredEvent[];
 	let checked = 0;
 	for (const row of rows) {
 		checked++;
 		const seq = Number(row.seq);
-		const [before] = seq === 1 ? [{ hash: GENESIS }] : ((await sql`select encode(hash, 'hex') as hash from audit_event where seq = ${seq - 1}`) as unknown as { hash: string }[]);
-		if (!before) return { ok: false, events: checked, firstBadSeq: seq - 1, problem: `gap in seq: event ${seq - 1} is missing` };
+		const [before] =
+			seq === 1
+				? [{ hash: GENESIS }]
+				: ((await sql`select encode(hash, 'hex') as hash from audit_event where seq = ${seq - 1}`) as unknown as {
+						hash: string;
+					}[]);
+		if (!before)
+			return {
+				ok: false,
+				events: checked,
+				firstBadSeq: seq - 1,
+				problem: `gap in seq: event ${seq - 1} is missing`
+			};
 		const problem = checkEvent(row, seq, before.hash);
 		if (problem) return { ok: false, events: checked, firstBadSeq: seq, problem };
 	}

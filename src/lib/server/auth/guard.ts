@@ -1,7 +1,7 @@
 import { error, json, redirect, type Handle, type RequestEvent } from '@sveltejs/kit';
 import { mayAccess, routeAccess, type Access } from '$lib/access';
 import type { Role } from '$lib/roles';
-import { recordEventNow } from '../audit/index';
+import { recordEventNow } from '../audit/now';
 
 export type User = {
 	id: string;

@@ -1,5 +1,6 @@
 import { eq, sql } from 'drizzle-orm';
-import { recordEvent, recordEventNow } from '../audit/index';
+import { recordEvent } from '../audit/index';
+import { recordEventNow } from '../audit/now';
 import { db } from '../db/index';
 import { accounts } from '../db/schema/index';
 import { log } from '../log';

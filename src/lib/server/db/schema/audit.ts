@@ -1,5 +1,14 @@
 import { sql } from 'drizzle-orm';
-import { bigint, check, customType, integer, jsonb, pgTable, text, timestamp } from 'drizzle-orm/pg-core';
+import {
+	bigint,
+	check,
+	customType,
+	integer,
+	jsonb,
+	pgTable,
+	text,
+	timestamp
+} from 'drizzle-orm/pg-core';
 
 /** 32 raw bytes in the database (bytea), hex text in JavaScript. */
 const sha256 = customType<{ data: string; driverData: Buffer }>({
@@ -42,7 +51,10 @@ export const auditEvent = pgTable(
 		check('audit_event_action_form', sql`${t.action} ~ '^[a-z][a-z_]*(\\.[a-z][a-z_]*)+$'`),
 		check('audit_event_actor_kind', sql`${t.actorKind} in ('person', 'system', 'anonymous')`),
 		check('audit_event_seq_positive', sql`${t.seq} > 0`),
-		check('audit_event_hash_length', sql`octet_length(${t.hash}) = 32 and octet_length(${t.prevHash}) = 32`)
+		check(
+			'audit_event_hash_length',
+			sql`octet_length(${t.hash}) = 32 and octet_length(${t.prevHash}) = 32`
+		)
 	]
 );
 
