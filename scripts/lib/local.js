@@ -52,7 +52,8 @@ export function localUrl(who, database = pg.database) {
 
 /** @param {string} message */
 export function say(message) {
-	console.log(`[setup] ${message}`);
+	// stderr: setup talk never mixes with what a command prints on stdout (db:psql, audit:verify).
+	console.error(`[setup] ${message}`);
 }
 
 /** @param {string} message @returns {never} */

@@ -15,6 +15,7 @@ export type Access = 'public' | 'signed-in' | readonly Role[];
 
 const readers: readonly Role[] = ['technician', 'planner', 'quality', 'inspector'];
 const administrators: readonly Role[] = ['administrator'];
+const auditors: readonly Role[] = ['quality', 'inspector'];
 
 export const routeAccess = {
 	'/': 'signed-in',
@@ -23,6 +24,10 @@ export const routeAccess = {
 	'/api': 'public',
 	'/api/v1': 'public',
 	'/api/v1/health': 'public',
+	'/api/v1/audit': auditors,
+	'/api/v1/audit/verify': auditors,
+	'/api/v1/audit/export': auditors,
+	'/(app)/audit': auditors,
 	'/api/[...path]': 'public',
 	'/(app)': 'signed-in',
 	'/(app)/account': 'signed-in',

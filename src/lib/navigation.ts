@@ -8,6 +8,7 @@ export type NavItem = { href: Pathname; label: string; route: keyof typeof route
 const items: NavItem[] = [
 	{ href: '/', label: 'Waiting for me', route: '/(app)' },
 	{ href: '/plant', label: 'Plant', route: '/(app)/plant' },
+	{ href: '/audit', label: 'Audit trail', route: '/(app)/audit' },
 	{ href: '/people', label: 'People and access', route: '/(app)/people' }
 ];
 

@@ -14,11 +14,14 @@ import {
 // SE7 (idle timeout), SE8 (sign-out invalidates on the server), ES6 (one-time password).
 
 const pagesByRole: Record<string, { sees: string[]; forbidden: string[] }> = {
-	tech1: { sees: ['Waiting for me', 'Plant'], forbidden: ['/people'] },
+	tech1: { sees: ['Waiting for me', 'Plant'], forbidden: ['/people', '/audit'] },
 	planner: { sees: ['Waiting for me', 'Plant'], forbidden: ['/people'] },
-	quality: { sees: ['Waiting for me', 'Plant'], forbidden: ['/people'] },
-	inspector: { sees: ['Waiting for me', 'Plant'], forbidden: ['/people', '/people/new'] },
-	admin: { sees: ['Waiting for me', 'People and access'], forbidden: ['/plant'] }
+	quality: { sees: ['Waiting for me', 'Plant', 'Audit trail'], forbidden: ['/people'] },
+	inspector: {
+		sees: ['Waiting for me', 'Plant', 'Audit trail'],
+		forbidden: ['/people', '/people/new']
+	},
+	admin: { sees: ['Waiting for me', 'People and access'], forbidden: ['/plant', '/audit'] }
 };
 
 test.describe('each demo role', () => {

@@ -34,7 +34,7 @@ const event = (i: number, extra: Partial<AuditInput> = {}): AuditInput => ({
 const append = (input: AuditInput) => t.app.transaction((tx) => recordEvent(tx, input));
 
 /** Changes the table as a superuser would, past the append-only trigger. */
-async function tamper(statement: (sql: postgres.Sql) => Promise<unknown>) {
+async function tamper(statement: (sql: postgres.TransactionSql) => Promise<unknown>) {
 	await superuser.begin(async (sql) => {
 		await sql`set local session_replication_role = replica`;
 		await statement(sql);

@@ -49,9 +49,12 @@ const paths = (): Record<string, string> => ({
 	'/login': '/login',
 	'/logout': '/logout',
 	'/api/v1/health': '/api/v1/health',
+	'/api/v1/audit/verify': '/api/v1/audit/verify',
+	'/api/v1/audit/export': '/api/v1/audit/export',
+	'/(app)/audit': '/audit',
 	'/api/[...path]': '/api/v1/no-such-thing'
 });
-const layoutsOnly = ['/', '/api', '/api/v1'];
+const layoutsOnly = ['/', '/api', '/api/v1', '/api/v1/audit'];
 
 const get = (path: string, cookie?: string) =>
 	fetch(`${app.origin}${path}`, { redirect: 'manual', headers: cookie ? { cookie } : {} });

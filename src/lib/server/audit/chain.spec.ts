@@ -111,3 +111,27 @@ describe('the chain hash', () => {
 		expect(chainHash('11'.repeat(32), fields)).not.toBe(base);
 	});
 });
+
+describe('scripts/verify-export.mjs canonicalises like the canonicalize package (RFC 8785)', async () => {
+	const { canonical } = await import('../../../../scripts/verify-export.mjs');
+	it.each([
+		[
+			'§3.2.2 example',
+			JSON.parse(
+				'{"numbers": [333333333.33333329, 1E30, 4.50, 2e-3, 0.000000000000000000000000001], "string": "\\u20ac$\\u000F\\u000aA\'\\u0042\\u0022\\u005c\\\\\\"\\/", "literals": [null, true, false]}'
+			)
+		],
+		[
+			'§3.2.3 key order',
+			JSON.parse(
+				'{"\\u20ac":1,"\\r":2,"\\ufb33":3,"1":4,"\\ud83d\\ude00":5,"\\u0080":6,"\\u00f6":7}'
+			)
+		],
+		['nested values', { b: [1, { d: null, c: 'x' }], a: { z: true, y: 1e21 } }]
+	])('%s', (_name, value) => {
+		expect(canonical(value)).toBe(canonicalize(value));
+	});
+	it('rejects a lone surrogate', () => {
+		expect(() => canonical({ a: '\ud800' })).toThrow(/surrogate/);
+	});
+});
