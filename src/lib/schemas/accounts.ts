@@ -25,12 +25,8 @@ export const usernameSchema = z
 		'2–32 characters: lowercase letters, digits, dot, dash or underscore, starting with a letter or digit.'
 	);
 
-/** The reason for an account change, stored in its audit event. */
-export const reasonSchema = z
-	.string()
-	.trim()
-	.min(1, 'Give a reason: it is kept in the audit trail.')
-	.max(500, 'Keep the reason under 500 characters.');
+export { reasonSchema } from './reason';
+import { reasonSchema } from './reason';
 
 const roleList = z.array(z.enum(roles)).min(1, 'Choose at least one role.');
 

@@ -71,25 +71,23 @@ export async function recordEvent(tx: Transaction, input: AuditInput) {
 		client_address: input.clientAddress ?? null
 	};
 	const hash = chainHash(head.hash, fields);
-	await tx.insert(auditEvent).values({
-		seq: fields.seq,
-		at: new Date(fields.at),
-		actorKind: fields.actor_kind,
-		actorId: fields.actor_id,
-		actorName: fields.actor_name,
-		actorRoles: fields.actor_roles,
-		action: fields.action,
-		entityType: fields.entity_type,
-		entityId: fields.entity_id,
-		newValues: fields.new_values,
-		previousValues: fields.previous_values,
-		reason: fields.reason,
-		clientAddress: fields.client_address,
-		prevHash: head.hash,
-		hash
-	});
-	await tx.execute(
-		sql`update audit_chain_head set seq = ${fields.seq}, hash = decode(${hash}, 'hex') where id = 1`
-	);
+	// The event and the new head in one statement: one round trip less while the head is held.
+	const jsonb = (v: Record<string, unknown> | null) =>
+		v == null ? sql`null::jsonb` : sql`${JSON.stringify(v)}::jsonb`;
+	const roles = fields.actor_roles.length
+		? sql`array[${sql.join(
+				fields.actor_roles.map((r) => sql`${r}`),
+				sql`, `
+			)}]::text[]`
+		: sql`'{}'::text[]`;
+	await tx.execute(sql`
+		with appended as (
+			insert into ${auditEvent} (seq, at, actor_kind, actor_id, actor_name, actor_roles, action, entity_type, entity_id,
+				new_values, previous_values, reason, client_address, prev_hash, hash)
+			values (${fields.seq}, ${fields.at}::timestamptz, ${fields.actor_kind}, ${fields.actor_id}, ${fields.actor_name}, ${roles},
+				${fields.action}, ${fields.entity_type}, ${fields.entity_id}, ${jsonb(fields.new_values)}, ${jsonb(fields.previous_values)},
+				${fields.reason}, ${fields.client_address}, decode(${head.hash}, 'hex'), decode(${hash}, 'hex'))
+		)
+		update audit_chain_head set seq = ${fields.seq}, hash = decode(${hash}, 'hex') where id = 1`);
 	return { seq: fields.seq, at: fields.at, hash };
 }
