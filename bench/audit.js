@@ -12,9 +12,8 @@ ensureDependencies({ quiet: true });
 const { tsImport } = await import('tsx/esm/api');
 const { performance } = await import('node:perf_hooks');
 const { createHash, randomBytes } = await import('node:crypto');
-const cluster = await import('../scripts/lib/cluster.js');
 const { localUrl } = await import('../scripts/lib/local.js');
-const { runMigrations } = await import('../scripts/lib/database.js');
+const { throwawayDatabase } = await import('../scripts/lib/database.js');
 const { default: postgres } = await import('postgres');
 const { drizzle } = await import('drizzle-orm/postgres-js');
 
@@ -31,12 +30,8 @@ const total = Number(process.env.BENCH_AUDIT_EVENTS ?? 1_000_000);
 const seconds = Number(process.env.BENCH_AUDIT_SECONDS ?? 10);
 const writers = 4;
 
-cluster.ensureCluster();
-const startedCluster = cluster.startCluster();
-cluster.ensureRoles();
-const dbName = `countersign_bench_${randomBytes(4).toString('hex')}`;
-cluster.createDatabase(dbName);
-await runMigrations(localUrl('owner', dbName));
+const throwaway = await throwawayDatabase();
+const dbName = throwaway.name;
 const owner = postgres(localUrl('owner', dbName), { max: 1, onnotice: () => {} });
 await owner`create table raw_event (like audit_event including defaults)`;
 await owner`grant select, insert on raw_event to countersign_app`;
@@ -170,8 +165,7 @@ for (const text of texts) {
 const rawRate = texts.length / ((performance.now() - h0) / 1000);
 await app.end();
 await owner.end();
-cluster.dropDatabase(dbName);
-if (startedCluster) cluster.stopCluster();
+throwaway.drop();
 
 const verifyRate = result.events / verifySeconds;
 console.log(

@@ -10,9 +10,8 @@ ensureDependencies({ quiet: true });
 const { tsImport } = await import('tsx/esm/api');
 const { performance } = await import('node:perf_hooks');
 const { randomBytes } = await import('node:crypto');
-const cluster = await import('../scripts/lib/cluster.js');
 const { localUrl, root } = await import('../scripts/lib/local.js');
-const { runMigrations } = await import('../scripts/lib/database.js');
+const { throwawayDatabase } = await import('../scripts/lib/database.js');
 const { buildIfStale } = await import('../scripts/lib/app.js');
 const { default: postgres } = await import('postgres');
 const { spawn } = await import('node:child_process');
@@ -58,12 +57,8 @@ console.log(
 
 // 2. Sign-ins per second through the built app.
 buildIfStale();
-cluster.ensureCluster();
-const startedCluster = cluster.startCluster();
-cluster.ensureRoles();
-const dbName = `countersign_bench_${randomBytes(4).toString('hex')}`;
-cluster.createDatabase(dbName);
-await runMigrations(localUrl('owner', dbName));
+const throwaway = await throwawayDatabase();
+const dbName = throwaway.name;
 const clients = 20;
 const password = 'bench passphrase for every account';
 const shared = await passwords.hashPassword(password);
@@ -124,8 +119,7 @@ await Promise.all(
 );
 app.kill('SIGTERM');
 await new Promise((r) => app.once('exit', r));
-cluster.dropDatabase(dbName);
-if (startedCluster) cluster.stopCluster();
+throwaway.drop();
 
 console.log(
 	`sign-ins: ${(ok / seconds).toFixed(1)} per second with ${clients} concurrent clients over ${seconds} s ` +

@@ -6,6 +6,7 @@ import {
 	chownSync,
 	existsSync,
 	mkdirSync,
+	readFileSync,
 	rmSync,
 	statSync,
 	writeFileSync
@@ -119,8 +120,15 @@ export function startCluster() {
 			ownSession: true
 		}
 	);
-	if (result.status !== 0)
+	if (result.status !== 0) {
+		const log = existsSync(pg.log) ? readFileSync(pg.log, 'utf8').slice(-2000) : '';
+		if (log.includes('Address already in use')) {
+			fail(
+				`port ${pg.port} on ${pg.host} is taken by another server: stop it, or set COUNTERSIGN_PG_PORT to a free port.`
+			);
+		}
 		fail(`PostgreSQL did not start (log: ${pg.log}):\n${result.stdout}${result.stderr}`);
+	}
 	say(`PostgreSQL started on ${pg.host}:${pg.port}`);
 	return true;
 }

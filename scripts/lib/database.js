@@ -103,3 +103,23 @@ export async function prepareDatabase({
 	}
 	return { appUrl, ownerUrl, startedCluster };
 }
+
+/**
+ * A migrated database of its own on the local cluster, for benchmarks (never the demo one);
+ * `drop()` removes it and stops the cluster if this call started it.
+ */
+export async function throwawayDatabase(prefix = 'countersign_bench') {
+	ensureCluster();
+	const startedCluster = startCluster();
+	ensureRoles();
+	const name = `${prefix}_${randomBytes(4).toString('hex')}`;
+	createDatabase(name);
+	await runMigrations(localUrl('owner', name));
+	return {
+		name,
+		drop() {
+			dropDatabase(name);
+			if (startedCluster) stopCluster();
+		}
+	};
+}

@@ -1,19 +1,12 @@
 import { and, eq, isNull, sql } from 'drizzle-orm';
-import type { Role } from '$lib/roles';
 import { recordEvent } from '../audit/index';
 import { db, type Transaction } from '../db/index';
 import { accounts, sessions } from '../db/schema/index';
+import type { User } from './guard';
 import { authSettings } from './settings';
 
-export type SessionUser = {
-	id: string;
-	username: string;
-	name: string;
-	email: string;
-	roles: Role[];
-	mustChangePassword: boolean;
-	sessionId: string;
-};
+/** The signed-in person (guard.ts `User`) and the id of the session being checked. */
+export type SessionUser = User & { sessionId: string };
 
 export type EndReason =
 	| 'sign_out'
