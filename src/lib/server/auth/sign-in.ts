@@ -3,7 +3,7 @@ import { recordEvent } from '../audit/index';
 import { recordEventNow } from '../audit/now';
 import { db } from '../db/index';
 import { accounts } from '../db/schema/index';
-import { log } from '../log';
+import { countFailedPassword, lockIfDue } from './lockout';
 import { decoyHash, verifyPassword } from './passwords';
 import { authSettings } from './settings';
 import { clearFailures, recordFailure, secondsToWait, throttleKeys } from './throttle';
@@ -71,17 +71,7 @@ export async function attemptSignIn(input: {
 				: !account.active
 					? 'deactivated'
 					: 'wrong_password';
-			let failures: number | undefined;
-			let lockedNow = false;
-			if (account?.active) {
-				const [updated] = await tx
-					.update(accounts)
-					.set({ failedSignIns: sql`${accounts.failedSignIns} + 1` })
-					.where(eq(accounts.id, account.id))
-					.returning({ failures: accounts.failedSignIns });
-				failures = updated!.failures;
-				lockedNow = failures >= settings.AUTH_LOCKOUT_FAILURES;
-			}
+			const counted = account?.active ? await countFailedPassword(tx, account.id) : undefined;
 			await recordEvent(tx, {
 				actor: anonymous,
 				action: 'auth.sign_in_failed',
@@ -90,31 +80,11 @@ export async function attemptSignIn(input: {
 				newValues: {
 					username,
 					reason,
-					...(failures === undefined ? {} : { consecutiveFailures: failures })
+					...(counted ? { consecutiveFailures: counted.failures } : {})
 				},
 				clientAddress: input.clientAddress
 			});
-			if (lockedNow && account) {
-				await tx
-					.update(accounts)
-					.set({ lockedAt: sql`now()` })
-					.where(eq(accounts.id, account.id));
-				await recordEvent(tx, {
-					actor: { kind: 'system', name: 'system: sign-in guard' },
-					action: 'auth.lockout',
-					entityType: 'account',
-					entityId: account.id,
-					newValues: { username, consecutiveFailures: failures, locked: true },
-					previousValues: { locked: false },
-					reason: `${failures} consecutive failed sign-ins`,
-					clientAddress: input.clientAddress
-				});
-				// E-mail to the administrators arrives with 7/10; until then the log and their queue show it.
-				log.warn('account locked after failed sign-ins', {
-					accountId: account.id,
-					username,
-					failures
-				});
+			if (account && counted && (await lockIfDue(tx, account, counted, input.clientAddress))) {
 				return { ok: false, code: 'locked' } as const;
 			}
 			return { ok: false, code: 'credentials' } as const;

@@ -1,21 +1,6 @@
 import { sql } from 'drizzle-orm';
-import {
-	bigint,
-	check,
-	customType,
-	integer,
-	jsonb,
-	pgTable,
-	text,
-	timestamp
-} from 'drizzle-orm/pg-core';
-
-/** 32 raw bytes in the database (bytea), hex text in JavaScript. */
-const sha256 = customType<{ data: string; driverData: Buffer }>({
-	dataType: () => 'bytea',
-	toDriver: (hex) => Buffer.from(hex, 'hex'),
-	fromDriver: (bytes) => Buffer.from(bytes).toString('hex')
-});
+import { bigint, check, integer, jsonb, pgTable, text, timestamp } from 'drizzle-orm/pg-core';
+import { sha256 } from './types';
 
 /**
  * The audit trail: one append-only, hash-chained table of events (shared/DESIGN.md "Records,

@@ -2,3 +2,4 @@
 export * from './accounts';
 export * from './audit';
 export * from './plant';
+export * from './signatures';
