@@ -109,6 +109,12 @@ describe('roles, deactivation, unlock, reset', () => {
 		await expect(
 			accounts.changeRoles(admin, admin.id, ['administrator', 'quality'], 'self', ip)
 		).rejects.toMatchObject({ status: 403 });
+		// Not even with the id written in capitals (PostgreSQL reads it as the same uuid).
+		await expect(
+			accounts.changeRoles(admin, admin.id.toUpperCase(), ['quality'], 'self', ip)
+		).rejects.toMatchObject({
+			status: 403
+		});
 		const [me] = await t.ownerSql`select roles from accounts where id = ${admin.id}`;
 		expect(me!.roles).toEqual(['administrator']);
 	});
@@ -210,6 +216,9 @@ describe('changing one’s own password', () => {
 		expect((await eventsOf(user.id)).map((e) => e.action)).toContain(
 			'account.password_change_failed'
 		);
+		// It counts toward the lockout like a failed sign-in.
+		const [row] = await t.ownerSql`select failed_sign_ins from accounts where id = ${user.id}`;
+		expect(row!.failed_sign_ins).toBe(1);
 	});
 
 	it('accepts a 64-character all-lowercase passphrase (SE1, SE3), ends sessions, records the change', async () => {

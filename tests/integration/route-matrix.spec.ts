@@ -143,6 +143,54 @@ describe('role × route matrix', () => {
 		expect(await t.ownerSql`select 1 from accounts where username = 'intruder2'`).toHaveLength(0);
 	});
 
+	it('a record has one address: an upper-case uuid is a 404', async () => {
+		const response = await get(`/people/${someAccountId.toUpperCase()}`, cookies.get('admin'));
+		expect(response.status).toBe(404);
+	});
+
+	it('sign-in never redirects off the site, whatever callbackUrl says', async () => {
+		for (const target of [
+			'/%5Cevil.example',
+			'//evil.example',
+			'https://evil.example/',
+			'/%09/evil.example'
+		]) {
+			const response = await get(`/login?callbackUrl=${target}`, cookies.get('tech1'));
+			expect(response.status, target).toBe(303);
+			expect(response.headers.get('location'), target).toBe('/');
+		}
+	});
+
+	it('a NUL character in the username is a clear refusal, never a 500', async () => {
+		const direct = await fetch(`${app.origin}/auth/callback/credentials`, {
+			method: 'POST',
+			redirect: 'manual',
+			headers: { origin: app.origin, 'content-type': 'application/x-www-form-urlencoded' },
+			body: new URLSearchParams({ username: 'tech\u00001', password: 'x', callbackUrl: '/' })
+		});
+		expect(direct.status).toBe(302);
+		expect(direct.headers.get('location')).toMatch(
+			/\/login\?error=CredentialsSignin&code=credentials$/
+		);
+		const form = await fetch(`${app.origin}/login`, {
+			method: 'POST',
+			redirect: 'manual',
+			headers: {
+				origin: app.origin,
+				accept: 'text/html',
+				'content-type': 'application/x-www-form-urlencoded'
+			},
+			body: new URLSearchParams({
+				username: 'tech\u00001',
+				password: 'x',
+				providerId: 'credentials',
+				redirectTo: '/'
+			})
+		});
+		expect(form.status).toBe(400);
+		expect(await form.text()).toContain('This contains characters that cannot be stored');
+	});
+
 	it('GET /auth/session answers the signed-in person with roles, from any HTTP client', async () => {
 		const response = await get('/auth/session', cookies.get('quality'));
 		expect(await response.json()).toMatchObject({

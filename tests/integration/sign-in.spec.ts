@@ -162,3 +162,36 @@ describe('attemptSignIn', () => {
 		expect(last!.new_values.reason).toBe('deactivated');
 	});
 });
+
+describe('attemptSignIn under concurrency', () => {
+	it('30 parallel wrong guesses at one account: exactly 5 are checked, the rest find it locked', async () => {
+		setEnv({
+			AUTH_DELAY_FREE_PER_USERNAME: '100',
+			AUTH_DELAY_FREE_PER_ADDRESS: '100',
+			AUTH_LOCKOUT_FAILURES: '5'
+		});
+		const results = await Promise.all(
+			Array.from({ length: 30 }, (_, i) =>
+				attemptSignIn({
+					username: 'planner',
+					password: `parallel guess ${i}`,
+					clientAddress: nextAddress()
+				})
+			)
+		);
+		expect(results.filter((r) => !r.ok && r.code === 'locked')).toHaveLength(26);
+		expect(results.filter((r) => !r.ok && r.code === 'credentials')).toHaveLength(4);
+		const [account] =
+			await t.ownerSql`select failed_sign_ins, locked_at from accounts where username = 'planner'`;
+		expect(account!.failed_sign_ins).toBe(5);
+		expect(account!.locked_at).not.toBeNull();
+		// The right password cannot slip in afterwards either.
+		expect(
+			await attemptSignIn({
+				username: 'planner',
+				password: DEMO_PASSWORD,
+				clientAddress: nextAddress()
+			})
+		).toEqual({ ok: false, code: 'locked' });
+	});
+});

@@ -1,5 +1,6 @@
 import { z } from 'zod';
 import { roles } from '$lib/roles';
+import { isStorableText, unstorableTextMessage } from './text';
 
 /** Forms of sign-in and account administration; the server checks them again (superforms + zod). */
 
@@ -8,7 +9,8 @@ export const signInSchema = z.object({
 		.string()
 		.trim()
 		.min(1, 'Enter your username.')
-		.max(64, 'A username has at most 64 characters.'),
+		.max(64, 'A username has at most 64 characters.')
+		.refine(isStorableText, unstorableTextMessage),
 	password: z
 		.string()
 		.min(1, 'Enter your password.')
@@ -36,7 +38,8 @@ export const newAccountSchema = z.object({
 		.string()
 		.trim()
 		.min(2, 'Enter the person’s full name as it should print on signatures.')
-		.max(120),
+		.max(120)
+		.refine(isStorableText, unstorableTextMessage),
 	email: z.email('Enter an e-mail address such as name@example.org.').max(254),
 	roles: roleList
 });

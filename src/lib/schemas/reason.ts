@@ -1,4 +1,5 @@
 import { z } from 'zod';
+import { isStorableText, unstorableTextMessage } from './text';
 
 /**
  * The reason for a change, correction or void (EU GMP Annex 11 §9; REQUIREMENTS AT2): one
@@ -10,7 +11,8 @@ export const reasonSchema = z
 	.string({ error: 'Give a reason: it is kept in the audit trail.' })
 	.trim()
 	.min(1, 'Give a reason: it is kept in the audit trail.')
-	.max(500, 'Keep the reason under 500 characters.');
+	.max(500, 'Keep the reason under 500 characters.')
+	.refine(isStorableText, unstorableTextMessage);
 
 /** Standard reasons for correcting recorded data (common practice, no source). */
 export const dataCorrectionReasons = [

@@ -2,8 +2,8 @@ import { asc, eq, sql } from 'drizzle-orm';
 import { randomInt } from 'node:crypto';
 import type { Role } from '$lib/roles';
 import { recordEvent, type Actor } from './audit/index';
-import { recordEventNow } from './audit/now';
 import type { User } from './auth/guard';
+import { countFailedPassword, lockIfDue } from './auth/lockout';
 import { hashPassword, passwordProblems, verifyPassword } from './auth/passwords';
 import { endSessionsOf } from './auth/sessions';
 import { db } from './db/index';
@@ -133,7 +133,7 @@ export async function changeRoles(
 	reason: string,
 	clientAddress: string | null
 ) {
-	if (id === admin.id)
+	if (id.toLowerCase() === admin.id.toLowerCase())
 		throw new AccountError(
 			'Nobody changes their own roles: ask another administrator.',
 			'roles',
@@ -162,7 +162,7 @@ export async function deactivateAccount(
 	reason: string,
 	clientAddress: string | null
 ) {
-	if (id === admin.id)
+	if (id.toLowerCase() === admin.id.toLowerCase())
 		throw new AccountError('You cannot deactivate your own account.', 'reason', 403);
 	const account = await load(id);
 	if (!account.active)
@@ -221,7 +221,7 @@ export async function resetPassword(
 	reason: string,
 	clientAddress: string | null
 ) {
-	if (id === admin.id)
+	if (id.toLowerCase() === admin.id.toLowerCase())
 		throw new AccountError('Change your own password on your account page instead.', 'reason', 403);
 	const account = await load(id);
 	if (!account.active) throw new AccountError('This account is deactivated.', 'reason', 409);
@@ -257,16 +257,22 @@ export async function changeOwnPassword(
 ) {
 	const account = await load(user.id);
 	if (!(await verifyPassword(account.passwordHash, input.currentPassword))) {
-		await recordEventNow({
-			actor: person(user),
-			action: 'account.password_change_failed',
-			entityType: 'account',
-			entityId: user.id,
-			newValues: { reason: 'wrong_current_password' },
-			clientAddress
+		// Counts toward the lockout like a failed sign-in (an unattended session must not allow guessing).
+		await db().transaction(async (tx) => {
+			const count = await countFailedPassword(tx, user.id);
+			await recordEvent(tx, {
+				actor: person(user),
+				action: 'account.password_change_failed',
+				entityType: 'account',
+				entityId: user.id,
+				newValues: { reason: 'wrong_current_password', consecutiveFailures: count.failures },
+				clientAddress
+			});
+			await lockIfDue(tx, account, count, clientAddress);
 		});
 		throw new AccountError('That is not your current password.', 'currentPassword', 400);
 	}
+
 	const problems = passwordProblems(input.newPassword, {
 		username: account.username,
 		fullName: account.fullName

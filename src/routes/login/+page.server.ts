@@ -23,8 +23,17 @@ function refusal(code: string | undefined, retryAfter?: number) {
 }
 
 /** Only paths on this site, never another origin. */
-const localPath = (value: string | null) =>
-	value && value.startsWith('/') && !value.startsWith('//') ? value : '/';
+function localPath(value: string | null) {
+	if (!value) return '/';
+	// Parse as a browser would (backslashes, tabs and all); keep it only when it stays on this site.
+	const base = 'http://countersign.invalid';
+	try {
+		const url = new URL(value, base);
+		return url.origin === base ? url.pathname + url.search : '/';
+	} catch {
+		return '/';
+	}
+}
 
 export const load: PageServerLoad = async ({ locals, url }) => {
 	if (locals.user) redirect(303, localPath(url.searchParams.get('callbackUrl')));

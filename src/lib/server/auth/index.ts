@@ -2,6 +2,7 @@ import { CredentialsSignin, SvelteKitAuth } from '@auth/sveltekit';
 import Credentials from '@auth/sveltekit/providers/credentials';
 import { z } from 'zod';
 import type { Role } from '$lib/roles';
+import { isStorableText } from '$lib/schemas/text';
 import { db } from '../db/index';
 import { log } from '../log';
 import { checkSession, endSession, openSession } from './sessions';
@@ -19,7 +20,7 @@ export class SignInRefused extends CredentialsSignin {
 }
 
 const credentials = z.object({
-	username: z.string().trim().min(1).max(64),
+	username: z.string().trim().min(1).max(64).refine(isStorableText),
 	password: z.string().min(1).max(1024)
 });
 

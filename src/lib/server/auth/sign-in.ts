@@ -1,6 +1,5 @@
 import { eq, sql } from 'drizzle-orm';
 import { recordEvent } from '../audit/index';
-import { recordEventNow } from '../audit/now';
 import { db } from '../db/index';
 import { accounts } from '../db/schema/index';
 import { countFailedPassword, lockIfDue } from './lockout';
@@ -30,81 +29,84 @@ export async function attemptSignIn(input: {
 	const username = normaliseUsername(input.username);
 	const keys = throttleKeys(username, input.clientAddress, settings);
 	const anonymous = { kind: 'anonymous' } as const;
+	const clientAddress = input.clientAddress;
 
-	const wait = await secondsToWait(db(), keys, settings);
-	if (wait > 0) {
-		await recordEventNow({
-			actor: anonymous,
-			action: 'auth.sign_in_failed',
-			entityType: 'account',
-			newValues: { username, reason: 'throttled', retryAfterSeconds: wait },
-			clientAddress: input.clientAddress
-		});
-		return { ok: false, code: 'throttled', retryAfter: wait };
-	}
-
-	const [account] = await db().select().from(accounts).where(eq(accounts.username, username));
-	if (account?.lockedAt) {
-		await recordEventNow({
-			actor: anonymous,
-			action: 'auth.sign_in_failed',
-			entityType: 'account',
-			entityId: account.id,
-			newValues: { username, reason: 'locked' },
-			clientAddress: input.clientAddress
-		});
-		return { ok: false, code: 'locked' };
-	}
-
-	// Unknown usernames cost one argon2 verification too, so timing does not tell them apart.
-	const passwordMatches = await verifyPassword(
-		account?.passwordHash ?? (await decoyHash()),
-		input.password
-	);
-	const valid = Boolean(account?.active && passwordMatches);
-
-	if (!valid) {
-		return db().transaction(async (tx) => {
-			await recordFailure(tx, keys);
-			const reason = !account
-				? 'unknown_username'
-				: !account.active
-					? 'deactivated'
-					: 'wrong_password';
-			const counted = account?.active ? await countFailedPassword(tx, account.id) : undefined;
+	// One transaction, with the account's row locked from the first check to the last write:
+	// parallel guesses at one account queue up, each sees the count the one before left, and
+	// none gets past the lockout (nor resets it).
+	return db().transaction(async (tx): Promise<SignInResult> => {
+		const wait = await secondsToWait(tx, keys, settings);
+		if (wait > 0) {
 			await recordEvent(tx, {
 				actor: anonymous,
 				action: 'auth.sign_in_failed',
 				entityType: 'account',
-				entityId: account?.id ?? null,
-				newValues: {
-					username,
-					reason,
-					...(counted ? { consecutiveFailures: counted.failures } : {})
-				},
-				clientAddress: input.clientAddress
+				newValues: { username, reason: 'throttled', retryAfterSeconds: wait },
+				clientAddress
 			});
-			if (account && counted && (await lockIfDue(tx, account, counted, input.clientAddress))) {
-				return { ok: false, code: 'locked' } as const;
-			}
-			return { ok: false, code: 'credentials' } as const;
-		});
-	}
-
-	await db().transaction(async (tx) => {
-		await clearFailures(tx, keys);
-		await tx
-			.update(accounts)
-			.set({ failedSignIns: 0, lastSignInAt: sql`now()` })
-			.where(eq(accounts.id, account!.id));
-	});
-	return {
-		ok: true,
-		account: {
-			id: account!.id,
-			username: account!.username,
-			name: account!.fullName,
-			email: account!.email
+			return { ok: false, code: 'throttled', retryAfter: wait };
 		}
-	};
+
+		const [account] = await tx
+			.select()
+			.from(accounts)
+			.where(eq(accounts.username, username))
+			.for('update');
+		if (account?.lockedAt && account.active) {
+			await recordEvent(tx, {
+				actor: anonymous,
+				action: 'auth.sign_in_failed',
+				entityType: 'account',
+				entityId: account.id,
+				newValues: { username, reason: 'locked' },
+				clientAddress
+			});
+			return { ok: false, code: 'locked' };
+		}
+
+		// Unknown usernames cost one argon2 verification too, so timing does not tell them apart.
+		const passwordMatches = await verifyPassword(
+			account?.passwordHash ?? (await decoyHash()),
+			input.password
+		);
+		if (account?.active && passwordMatches) {
+			await clearFailures(tx, keys);
+			await tx
+				.update(accounts)
+				.set({ failedSignIns: 0, lastSignInAt: sql`now()` })
+				.where(eq(accounts.id, account.id));
+			return {
+				ok: true,
+				account: {
+					id: account.id,
+					username: account.username,
+					name: account.fullName,
+					email: account.email
+				}
+			};
+		}
+
+		await recordFailure(tx, keys);
+		const reason = !account
+			? 'unknown_username'
+			: !account.active
+				? 'deactivated'
+				: 'wrong_password';
+		const counted = account?.active ? await countFailedPassword(tx, account.id) : undefined;
+		await recordEvent(tx, {
+			actor: anonymous,
+			action: 'auth.sign_in_failed',
+			entityType: 'account',
+			entityId: account?.id ?? null,
+			newValues: {
+				username,
+				reason,
+				...(counted ? { consecutiveFailures: counted.failures } : {})
+			},
+			clientAddress
+		});
+		if (account && counted && (await lockIfDue(tx, account, counted, clientAddress)))
+			return { ok: false, code: 'locked' };
+		return { ok: false, code: 'credentials' };
+	});
 }

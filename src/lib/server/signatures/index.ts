@@ -65,20 +65,19 @@ export async function reauthenticate(
 		await refused('administrator');
 		throw new SignatureError('Administrators do not sign GMP records.', 'not_allowed', 403);
 	}
-	const [account] = await db().select().from(accounts).where(eq(accounts.id, signer.id));
-	if (!account || !account.active || account.lockedAt) {
-		await refused(account?.lockedAt ? 'locked' : 'inactive');
-		throw new SignatureError(
-			'This account is locked: an administrator must unlock it.',
-			'locked',
-			423
-		);
-	}
-	if (await verifyPassword(account.passwordHash, password)) {
-		await db().update(accounts).set({ failedSignIns: 0 }).where(eq(accounts.id, signer.id));
-		return;
-	}
-	const locked = await db().transaction(async (tx) => {
+	// The account row stays locked from the check to the count: parallel attempts cannot pass the lockout.
+	const outcome = await db().transaction(async (tx) => {
+		const [account] = await tx
+			.select()
+			.from(accounts)
+			.where(eq(accounts.id, signer.id))
+			.for('update');
+		if (!account || !account.active || account.lockedAt)
+			return account?.lockedAt ? 'locked' : 'inactive';
+		if (await verifyPassword(account.passwordHash, password)) {
+			await tx.update(accounts).set({ failedSignIns: 0 }).where(eq(accounts.id, signer.id));
+			return 'ok';
+		}
 		const count = await countFailedPassword(tx, signer.id);
 		await recordEvent(tx, {
 			actor: personOf(signer),
@@ -92,14 +91,24 @@ export async function reauthenticate(
 			},
 			clientAddress
 		});
-		return lockIfDue(tx, account, count, clientAddress);
+		return (await lockIfDue(tx, account, count, clientAddress)) ? 'locked_now' : 'wrong';
 	});
-	if (locked)
+	if (outcome === 'ok') return;
+	if (outcome === 'locked' || outcome === 'inactive') {
+		await refused(outcome);
+		throw new SignatureError(
+			'This account is locked: an administrator must unlock it.',
+			'locked',
+			423
+		);
+	}
+	if (outcome === 'locked_now') {
 		throw new SignatureError(
 			'Wrong password. The account is now locked: an administrator must unlock it.',
 			'locked',
 			423
 		);
+	}
 	throw new SignatureError(
 		'That is not your password. The signature was not made.',
 		'password',
