@@ -195,3 +195,37 @@ describe('attemptSignIn under concurrency', () => {
 		).toEqual({ ok: false, code: 'locked' });
 	});
 });
+
+describe('the delay forgets old failures', () => {
+	it('failures older than AUTH_DELAY_RESET_MINUTES no longer delay, and counting starts again', async () => {
+		setEnv({
+			AUTH_DELAY_FREE_PER_USERNAME: '1',
+			AUTH_DELAY_FREE_PER_ADDRESS: '100',
+			AUTH_DELAY_RESET_MINUTES: '15'
+		});
+		const ip = nextAddress();
+		await attemptSignIn({ username: 'ghost-old', password: 'x', clientAddress: ip });
+		await attemptSignIn({ username: 'ghost-old', password: 'x', clientAddress: ip });
+		expect(
+			await attemptSignIn({ username: 'ghost-old', password: 'x', clientAddress: ip })
+		).toMatchObject({ code: 'throttled' });
+		await t.ownerSql`update sign_in_throttle set last_failure_at = now() - interval '16 minutes' where key = 'u:ghost-old'`;
+		expect(
+			await attemptSignIn({ username: 'ghost-old', password: 'x', clientAddress: ip })
+		).toMatchObject({ code: 'credentials' });
+		const [row] = await t.ownerSql`select failures from sign_in_throttle where key = 'u:ghost-old'`;
+		expect(row!.failures).toBe(1);
+	});
+
+	it('a successful sign-in clears its username’s count but not the address’s', async () => {
+		setEnv({ AUTH_DELAY_FREE_PER_USERNAME: '100', AUTH_DELAY_FREE_PER_ADDRESS: '100' });
+		const ip = nextAddress();
+		await attemptSignIn({ username: 'ghost-a', password: 'x', clientAddress: ip });
+		await attemptSignIn({ username: 'tech1', password: 'wrong', clientAddress: ip });
+		await t.ownerSql`update accounts set active = true where username = 'tech1'`;
+		await attemptSignIn({ username: 'tech1', password: DEMO_PASSWORD, clientAddress: ip });
+		const rows =
+			await t.ownerSql`select key, failures from sign_in_throttle where key in ('u:tech1', ${'a:' + ip}) order by key`;
+		expect(rows).toEqual([{ key: `a:${ip}`, failures: 2 }]);
+	});
+});

@@ -19,7 +19,9 @@ const schema = z.object({
 	/** First delay in seconds; it doubles with each further failure … */
 	AUTH_DELAY_BASE_SECONDS: z.coerce.number().min(0).default(1),
 	/** … up to this many seconds. */
-	AUTH_DELAY_MAX_SECONDS: z.coerce.number().min(0).default(60)
+	AUTH_DELAY_MAX_SECONDS: z.coerce.number().min(0).default(60),
+	/** A key's failures are forgotten this long after its latest failure. */
+	AUTH_DELAY_RESET_MINUTES: z.coerce.number().positive().default(15)
 });
 
 export type AuthSettings = z.infer<typeof schema>;

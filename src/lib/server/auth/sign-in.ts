@@ -70,7 +70,9 @@ export async function attemptSignIn(input: {
 			input.password
 		);
 		if (account?.active && passwordMatches) {
-			await clearFailures(tx, keys);
+			// Only the username's count: a sign-in to some other account must not reset the
+			// address's count (or one valid account would let an address guess at all the others).
+			await clearFailures(tx, keys.slice(0, 1));
 			await tx
 				.update(accounts)
 				.set({ failedSignIns: 0, lastSignInAt: sql`now()` })
@@ -86,7 +88,7 @@ export async function attemptSignIn(input: {
 			};
 		}
 
-		await recordFailure(tx, keys);
+		await recordFailure(tx, keys, settings);
 		const reason = !account
 			? 'unknown_username'
 			: !account.active

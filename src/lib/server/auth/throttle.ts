@@ -49,18 +49,24 @@ export async function secondsToWait(tx: Transaction, keys: ThrottleKey[], settin
 	let wait = 0;
 	for (const row of rows) {
 		const free = keys.find((k) => k.key === row.key)!.free;
+		if (row.since > settings.AUTH_DELAY_RESET_MINUTES * 60) continue; // forgotten
 		wait = Math.max(wait, delayAfter(row.failures, free, settings) - row.since);
 	}
 	return Math.ceil(Math.max(0, wait));
 }
 
-export async function recordFailure(tx: Transaction, keys: ThrottleKey[]) {
+/** One more failure on each key; a key whose latest failure is older than the reset time starts again at 1. */
+export async function recordFailure(tx: Transaction, keys: ThrottleKey[], settings: AuthSettings) {
+	const stale = sql`${signInThrottle.lastFailureAt} < now() - make_interval(mins => ${settings.AUTH_DELAY_RESET_MINUTES})`;
 	await tx
 		.insert(signInThrottle)
 		.values(keys.map((k) => ({ key: k.key, failures: 1 })))
 		.onConflictDoUpdate({
 			target: signInThrottle.key,
-			set: { failures: sql`${signInThrottle.failures} + 1`, lastFailureAt: sql`now()` }
+			set: {
+				failures: sql`case when ${stale} then 1 else ${signInThrottle.failures} + 1 end`,
+				lastFailureAt: sql`now()`
+			}
 		});
 }
 
