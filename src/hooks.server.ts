@@ -49,6 +49,10 @@ const core: Handle = async ({ event, resolve }) => {
 	const out = isImmutable(response) ? new Response(response.body, response) : response;
 	for (const [name, value] of Object.entries(securityHeaders)) out.headers.set(name, value);
 	out.headers.set('x-request-id', event.locals.requestId);
+	// A signed-in page must not come back from the browser's cache after sign-out (shared tablets).
+	if (event.locals.user && (out.headers.get('content-type') ?? '').startsWith('text/html')) {
+		out.headers.set('cache-control', 'no-store');
+	}
 	return out;
 };
 

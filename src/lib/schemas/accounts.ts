@@ -30,7 +30,19 @@ export const usernameSchema = z
 export { reasonSchema } from './reason';
 import { reasonSchema } from './reason';
 
-const roleList = z.array(z.enum(roles)).min(1, 'Choose at least one role.');
+const roleList = z
+	.array(z.enum(roles))
+	.min(1, 'Choose at least one role.')
+	// Administrators are kept apart from record content (REQUIREMENTS AC3): never a GMP role besides.
+	.refine(
+		(list) =>
+			!list.includes('administrator') ||
+			list.every((r) => r === 'administrator' || r === 'inspector'),
+		{
+			message:
+				'An Administrator holds no Technician, Planner or Quality role: administrators never sign or change GMP records.'
+		}
+	);
 
 export const newAccountSchema = z.object({
 	username: usernameSchema,

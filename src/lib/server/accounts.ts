@@ -270,7 +270,11 @@ export async function changeOwnPassword(
 			});
 			await lockIfDue(tx, account, count, clientAddress);
 		});
-		throw new AccountError('That is not your current password.', 'currentPassword', 400);
+		throw new AccountError(
+			'That is not your current password. Five wrong passwords in a row lock the account.',
+			'currentPassword',
+			400
+		);
 	}
 
 	const problems = passwordProblems(input.newPassword, {

@@ -35,18 +35,7 @@ export async function attemptSignIn(input: {
 	// parallel guesses at one account queue up, each sees the count the one before left, and
 	// none gets past the lockout (nor resets it).
 	return db().transaction(async (tx): Promise<SignInResult> => {
-		const wait = await secondsToWait(tx, keys, settings);
-		if (wait > 0) {
-			await recordEvent(tx, {
-				actor: anonymous,
-				action: 'auth.sign_in_failed',
-				entityType: 'account',
-				newValues: { username, reason: 'throttled', retryAfterSeconds: wait },
-				clientAddress
-			});
-			return { ok: false, code: 'throttled', retryAfter: wait };
-		}
-
+		// A locked account says so first: waiting would not help it.
 		const [account] = await tx
 			.select()
 			.from(accounts)
@@ -62,6 +51,18 @@ export async function attemptSignIn(input: {
 				clientAddress
 			});
 			return { ok: false, code: 'locked' };
+		}
+
+		const wait = await secondsToWait(tx, keys, settings);
+		if (wait > 0) {
+			await recordEvent(tx, {
+				actor: anonymous,
+				action: 'auth.sign_in_failed',
+				entityType: 'account',
+				newValues: { username, reason: 'throttled', retryAfterSeconds: wait },
+				clientAddress
+			});
+			return { ok: false, code: 'throttled', retryAfter: wait };
 		}
 
 		// Unknown usernames cost one argon2 verification too, so timing does not tell them apart.

@@ -37,7 +37,7 @@ export async function secondsToWait(tx: Transaction, keys: ThrottleKey[], settin
 		.select({
 			key: signInThrottle.key,
 			failures: signInThrottle.failures,
-			since: sql<number>`extract(epoch from (now() - ${signInThrottle.lastFailureAt}))::float8`
+			since: sql<number>`extract(epoch from (clock_timestamp() - ${signInThrottle.lastFailureAt}))::float8`
 		})
 		.from(signInThrottle)
 		.where(
@@ -50,14 +50,15 @@ export async function secondsToWait(tx: Transaction, keys: ThrottleKey[], settin
 	for (const row of rows) {
 		const free = keys.find((k) => k.key === row.key)!.free;
 		if (row.since > settings.AUTH_DELAY_RESET_MINUTES * 60) continue; // forgotten
-		wait = Math.max(wait, delayAfter(row.failures, free, settings) - row.since);
+		const delay = delayAfter(row.failures, free, settings);
+		if (delay > 0) wait = Math.max(wait, delay - Math.max(0, row.since));
 	}
 	return Math.ceil(Math.max(0, wait));
 }
 
 /** One more failure on each key; a key whose latest failure is older than the reset time starts again at 1. */
 export async function recordFailure(tx: Transaction, keys: ThrottleKey[], settings: AuthSettings) {
-	const stale = sql`${signInThrottle.lastFailureAt} < now() - make_interval(mins => ${settings.AUTH_DELAY_RESET_MINUTES})`;
+	const stale = sql`${signInThrottle.lastFailureAt} < clock_timestamp() - make_interval(mins => ${settings.AUTH_DELAY_RESET_MINUTES})`;
 	await tx
 		.insert(signInThrottle)
 		.values(keys.map((k) => ({ key: k.key, failures: 1 })))
@@ -65,7 +66,7 @@ export async function recordFailure(tx: Transaction, keys: ThrottleKey[], settin
 			target: signInThrottle.key,
 			set: {
 				failures: sql`case when ${stale} then 1 else ${signInThrottle.failures} + 1 end`,
-				lastFailureAt: sql`now()`
+				lastFailureAt: sql`clock_timestamp()`
 			}
 		});
 }
