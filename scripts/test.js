@@ -133,7 +133,7 @@ for (const project of ['unit', 'integration']) {
 if (wants('e2e')) {
 	buildIfStale();
 	cluster.createDatabase(E2E_DATABASE, { template: TEMPLATE });
-	await runSeed(localUrl('owner', E2E_DATABASE));
+	await runSeed(localUrl('owner', E2E_DATABASE), localUrl('app', E2E_DATABASE));
 	const report = join(results, 'e2e-results.json');
 	const ok = run('e2e', bin('playwright'), ['test', ...extra], {
 		PLAYWRIGHT_SKIP_BROWSER_DOWNLOAD: '1',

@@ -14,6 +14,7 @@ import {
 	startCluster
 } from './cluster.js';
 import { localUrl, pg, root, say } from './local.js';
+import { registerKitAliases } from './register-kit-aliases.js';
 
 /** @param {string} url */
 function connect(url) {
@@ -31,24 +32,41 @@ export async function runMigrations(/** @type {string} */ ownerUrl) {
 }
 
 /**
- * Seeds the demo plant and the demo accounts (idempotent).
- * @returns {Promise<{ sites: number, buildings: number, areas: number, accounts: number }>}
+ * Seeds the demo plant and the demo accounts as the owner, then the demo master data through
+ * the app's own domain functions as the application role (each row with its audit event).
+ * Idempotent.
+ * @param {string} ownerUrl @param {string} appUrl
  */
-export async function runSeed(/** @type {string} */ ownerUrl) {
+export async function runSeed(ownerUrl, appUrl) {
+	registerKitAliases();
 	/** @type {typeof import('../../src/lib/server/db/seed.ts')} */
-	const { seedDemoAccounts, seedDemoPlant } = await tsImport(
+	const { seedDemoAccounts, seedDemoPlant, DEMO_PASSWORD } = await tsImport(
 		'../../src/lib/server/db/seed.ts',
 		import.meta.url
 	);
 	/** @type {typeof import('../../src/lib/server/db/schema/index.ts')} */
 	const schema = await tsImport('../../src/lib/server/db/schema/index.ts', import.meta.url);
 	const sql = connect(ownerUrl);
+	let added;
 	try {
 		const database = drizzle(sql, { schema });
 		const plant = await seedDemoPlant(database);
-		return { ...plant, accounts: await seedDemoAccounts(database) };
+		added = { ...plant, accounts: await seedDemoAccounts(database) };
 	} finally {
 		await sql.end();
+	}
+	const previous = process.env.DATABASE_URL;
+	process.env.DATABASE_URL = appUrl;
+	/** @type {typeof import('../../src/lib/server/db/demo/index.ts')} */
+	const demo = await tsImport('../../src/lib/server/db/demo/index.ts', import.meta.url);
+	/** @type {typeof import('../../src/lib/server/db/index.ts')} */
+	const app = await tsImport('../../src/lib/server/db/index.ts', import.meta.url);
+	try {
+		return { ...added, ...(await demo.seedDemoMasterData(DEMO_PASSWORD)) };
+	} finally {
+		await app.closeDatabase();
+		if (previous === undefined) delete process.env.DATABASE_URL;
+		else process.env.DATABASE_URL = previous;
 	}
 }
 
@@ -96,9 +114,11 @@ export async function prepareDatabase({
 	await runMigrations(ownerUrl);
 	say('migrations applied');
 	if (seed === 'always' || (seed === 'if-empty' && (await isEmpty(ownerUrl)))) {
-		const added = await runSeed(ownerUrl);
+		const added = await runSeed(ownerUrl, appUrl);
 		say(
-			`demo data seeded (${added.sites} site, ${added.buildings} buildings, ${added.areas} areas, ${added.accounts} accounts added)`
+			`demo data seeded (${added.sites} site, ${added.buildings} buildings, ${added.areas} areas, ${added.accounts} accounts, ` +
+				`${added.equipment} equipment, ${added.instruments} instruments, ${added.parts} parts, ${added.procedures} procedures, ` +
+				`${added.qualifications} qualifications added)`
 		);
 	}
 	return { appUrl, ownerUrl, startedCluster };

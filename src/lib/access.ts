@@ -16,6 +16,7 @@ export type Access = 'public' | 'signed-in' | readonly Role[];
 const readers: readonly Role[] = ['technician', 'planner', 'quality', 'inspector'];
 const administrators: readonly Role[] = ['administrator'];
 const auditors: readonly Role[] = ['quality', 'inspector'];
+const planners: readonly Role[] = ['planner'];
 
 export const routeAccess = {
 	'/': 'signed-in',
@@ -32,6 +33,23 @@ export const routeAccess = {
 	'/(app)': 'signed-in',
 	'/(app)/account': 'signed-in',
 	'/(app)/plant': readers,
+	'/(app)/plant/new': planners,
+	'/(app)/plant/[id=uuid]': readers,
+	'/(app)/plant/[id=uuid]/change': planners,
+	'/(app)/instruments': readers,
+	'/(app)/instruments/new': planners,
+	'/(app)/instruments/[id=uuid]': readers,
+	'/(app)/parts': readers,
+	'/(app)/parts/new': planners,
+	'/(app)/parts/[id=uuid]': readers,
+	'/(app)/procedures': readers,
+	'/(app)/procedures/new': planners,
+	'/(app)/procedures/[id=uuid]': readers,
+	'/(app)/procedures/[id=uuid]/compare': readers,
+	'/(app)/procedures/versions': readers,
+	'/(app)/procedures/versions/[id=uuid]': readers,
+	'/(app)/procedures/versions/[id=uuid]/edit': planners,
+	'/(app)/qualifications': readers,
 	'/(app)/people': administrators,
 	'/(app)/people/new': administrators,
 	'/(app)/people/[id=uuid]': administrators

@@ -3,11 +3,27 @@ import { mayAccess, routeAccess } from './access';
 import type { Role } from './roles';
 
 /** The main navigation, in Countersign's own words (GLOSSARY.md; DEVELOPERS.md, "Words"). */
-export type NavItem = { href: Pathname; label: string; route: keyof typeof routeAccess };
+/** Static pages only (TypeScript checks resolve() over a union of at most 25 paths). */
+type NavHref = Extract<
+	Pathname,
+	| '/'
+	| '/plant'
+	| '/procedures'
+	| '/instruments'
+	| '/parts'
+	| '/qualifications'
+	| '/audit'
+	| '/people'
+>;
+export type NavItem = { href: NavHref; label: string; route: keyof typeof routeAccess };
 
 const items: NavItem[] = [
 	{ href: '/', label: 'Waiting for me', route: '/(app)' },
 	{ href: '/plant', label: 'Plant', route: '/(app)/plant' },
+	{ href: '/procedures', label: 'Procedures', route: '/(app)/procedures' },
+	{ href: '/instruments', label: 'Instruments', route: '/(app)/instruments' },
+	{ href: '/parts', label: 'Parts and lots', route: '/(app)/parts' },
+	{ href: '/qualifications', label: 'Qualifications', route: '/(app)/qualifications' },
 	{ href: '/audit', label: 'Audit trail', route: '/(app)/audit' },
 	{ href: '/people', label: 'People and access', route: '/(app)/people' }
 ];

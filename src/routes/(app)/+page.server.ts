@@ -1,11 +1,16 @@
 import { lockedAccounts } from '$lib/server/accounts';
 import { currentSite, plantTree } from '$lib/server/plant';
-import type { Pathname } from '$app/types';
 import type { Role } from '$lib/roles';
 import type { PageServerLoad } from './$types';
 
 /** `at` is an ISO time shown in site time after the detail words. */
-export type QueueItem = { id: string; title: string; detail: string; at?: string; href?: Pathname };
+export type QueueItem = {
+	id: string;
+	title: string;
+	detail: string;
+	at?: string;
+	href?: { route: '/(app)/people/[id=uuid]'; id: string };
+};
 export type Queue = { key: string; title: string; empty: string; items: QueueItem[] };
 
 /** The queues each role works from; work orders, verifications and releases fill them from 5/10 on. */
@@ -62,7 +67,7 @@ async function queuesFor(roles: Role[]): Promise<Queue[]> {
 				title: `${a.fullName} (${a.username})`,
 				detail: 'locked',
 				at: a.lockedAt!.toISOString(),
-				href: `/people/${a.id}` as Pathname
+				href: { route: '/(app)/people/[id=uuid]' as const, id: a.id }
 			}))
 		});
 	}

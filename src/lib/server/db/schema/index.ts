@@ -3,3 +3,4 @@ export * from './accounts';
 export * from './audit';
 export * from './plant';
 export * from './signatures';
+export * from './master';

@@ -1,0 +1,249 @@
+import { asc, desc, eq, inArray } from 'drizzle-orm';
+import { randomUUID } from 'node:crypto';
+import { addDays, instrumentFitnessOn, type CalibrationFacts } from '$lib/fitness';
+import type { z } from 'zod';
+import type { calibrationSchema, registerInstrumentSchema } from '$lib/schemas/master';
+import { db } from './db/index';
+import { calibrations, instruments, instrumentVersions } from './db/schema/index';
+import {
+	appendRecordEvent,
+	isUniqueViolation,
+	mustHold,
+	RecordError,
+	type Recorder
+} from './records';
+
+/**
+ * Reference instruments (4/10, MR3): identity, versions (kind, range, unit, U95, withdrawn) and
+ * append-only calibration records. Whether one is usable on a day comes from $lib/fitness.
+ */
+type Details = Omit<z.infer<typeof registerInstrumentSchema>, 'code'>;
+export type Calibration = z.infer<typeof calibrationSchema>;
+
+const factsOf = (c: typeof calibrations.$inferSelect): CalibrationFacts => ({
+	performedOn: c.performedOn,
+	dueOn: c.dueOn,
+	asLeft: c.asLeft as 'pass' | 'fail',
+	seq: c.auditSeq
+});
+
+/** Every instrument of a site at its newest version, with its fitness on `day` and what falls due within 30 days. */
+export async function listInstruments(siteId: string, day: string) {
+	const ids = await db()
+		.select({ id: instruments.id, code: instruments.code })
+		.from(instruments)
+		.where(eq(instruments.siteId, siteId))
+		.orderBy(asc(instruments.code));
+	if (!ids.length) return [];
+	const versions = await db()
+		.select()
+		.from(instrumentVersions)
+		.where(
+			inArray(
+				instrumentVersions.instrumentId,
+				ids.map((i) => i.id)
+			)
+		)
+		.orderBy(desc(instrumentVersions.version));
+	const cals = await db()
+		.select()
+		.from(calibrations)
+		.where(
+			inArray(
+				calibrations.instrumentId,
+				ids.map((i) => i.id)
+			)
+		);
+	const soon = addDays(day, 30);
+	return ids.map(({ id, code }) => {
+		const v = versions.find((x) => x.instrumentId === id)!;
+		const fitness = instrumentFitnessOn(
+			cals.filter((c) => c.instrumentId === id).map(factsOf),
+			day,
+			v.retired
+		);
+		const dueOn = fitness.calibration?.dueOn ?? null;
+		return {
+			id,
+			code,
+			version: v.version,
+			kind: v.kind,
+			description: v.description,
+			range: { min: v.rangeMin, max: v.rangeMax },
+			unit: v.unit,
+			uncertaintyU95: v.uncertaintyU95,
+			retired: v.retired,
+			fitness,
+			dueOn,
+			dueSoon: fitness.usable && dueOn !== null && dueOn <= soon
+		};
+	});
+}
+
+export async function getInstrument(id: string, day: string) {
+	const [identity] = await db().select().from(instruments).where(eq(instruments.id, id));
+	if (!identity) return undefined;
+	const versions = await db()
+		.select()
+		.from(instrumentVersions)
+		.where(eq(instrumentVersions.instrumentId, id))
+		.orderBy(desc(instrumentVersions.version));
+	const cals = await db()
+		.select()
+		.from(calibrations)
+		.where(eq(calibrations.instrumentId, id))
+		.orderBy(desc(calibrations.performedOn), desc(calibrations.auditSeq));
+	const current = versions[0]!;
+	return {
+		id,
+		code: identity.code,
+		current,
+		versions,
+		calibrations: cals,
+		fitness: instrumentFitnessOn(cals.map(factsOf), day, current.retired)
+	};
+}
+
+/** Whether an instrument may be used on a day (site date): the server's check before any entry (5/10). */
+export async function instrumentFitness(id: string, day: string) {
+	const found = await getInstrument(id, day);
+	if (!found) throw new RecordError('No such instrument.', undefined, 404);
+	return found.fitness;
+}
+
+/** The instruments that may be used on `day`, optionally of one kind: the only ones a step offers. */
+export async function usableInstruments(siteId: string, day: string, kind?: string) {
+	return (await listInstruments(siteId, day)).filter(
+		(i) => i.fitness.usable && (!kind || i.kind.toLowerCase() === kind.toLowerCase())
+	);
+}
+
+export async function registerInstrument(
+	by: Recorder,
+	siteId: string,
+	input: Details & { code: string },
+	clientAddress: string | null = null
+) {
+	mustHold(by, ['planner'], 'register reference instruments');
+	const id = randomUUID();
+	const { code, ...details } = input;
+	try {
+		await db().transaction(async (tx) => {
+			const rec = await appendRecordEvent(tx, by, {
+				action: 'instrument.register',
+				entityType: 'instrument',
+				entityId: id,
+				newValues: { code, version: 1, ...details },
+				clientAddress
+			});
+			await tx.insert(instruments).values({ id, siteId, code, createdAt: rec.recordedAt });
+			await tx.insert(instrumentVersions).values({
+				id: randomUUID(),
+				instrumentId: id,
+				version: 1,
+				...details,
+				reason: null,
+				...rec
+			});
+		});
+	} catch (e) {
+		if (isUniqueViolation(e))
+			throw new RecordError(`The instrument id ${code} is already registered.`, 'code', 409);
+		throw e;
+	}
+	return id;
+}
+
+export async function changeInstrument(
+	by: Recorder,
+	id: string,
+	fromVersion: number,
+	details: Details,
+	reason: string,
+	clientAddress: string | null = null
+) {
+	mustHold(by, ['planner'], 'change reference instruments');
+	try {
+		return await db().transaction(async (tx) => {
+			const [latest] = await tx
+				.select()
+				.from(instrumentVersions)
+				.where(eq(instrumentVersions.instrumentId, id))
+				.orderBy(desc(instrumentVersions.version))
+				.limit(1);
+			if (!latest) throw new RecordError('No such instrument.', undefined, 404);
+			if (latest.version !== fromVersion)
+				throw new RecordError(
+					`Someone saved version ${latest.version} meanwhile: reload the page and make the change again.`,
+					'reason',
+					409
+				);
+			const before = {
+				kind: latest.kind,
+				description: latest.description,
+				rangeMin: latest.rangeMin,
+				rangeMax: latest.rangeMax,
+				unit: latest.unit,
+				uncertaintyU95: latest.uncertaintyU95,
+				retired: latest.retired
+			};
+			const next = {
+				kind: details.kind,
+				description: details.description,
+				rangeMin: details.rangeMin,
+				rangeMax: details.rangeMax,
+				unit: details.unit,
+				uncertaintyU95: details.uncertaintyU95,
+				retired: details.retired
+			};
+			if (JSON.stringify(before) === JSON.stringify(next))
+				throw new RecordError('Nothing was changed: there is no new version to save.', 'reason');
+			const version = latest.version + 1;
+			const rec = await appendRecordEvent(tx, by, {
+				action: 'instrument.change',
+				entityType: 'instrument',
+				entityId: id,
+				newValues: { version, ...next },
+				previousValues: { version: latest.version, ...before },
+				reason,
+				clientAddress
+			});
+			await tx
+				.insert(instrumentVersions)
+				.values({ id: randomUUID(), instrumentId: id, version, ...next, reason, ...rec });
+			return version;
+		});
+	} catch (e) {
+		if (isUniqueViolation(e, 'instrument_versions_number'))
+			throw new RecordError(
+				'Someone saved a new version at the same moment: reload and retry.',
+				'reason',
+				409
+			);
+		throw e;
+	}
+}
+
+/** A calibration record: appended, never changed; a later record supersedes it. */
+export async function recordCalibration(
+	by: Recorder,
+	instrumentId: string,
+	calibration: Calibration,
+	clientAddress: string | null = null
+) {
+	mustHold(by, ['planner', 'quality'], 'record calibrations');
+	const [identity] = await db().select().from(instruments).where(eq(instruments.id, instrumentId));
+	if (!identity) throw new RecordError('No such instrument.', undefined, 404);
+	await db().transaction(async (tx) => {
+		const rec = await appendRecordEvent(tx, by, {
+			action: 'instrument.calibration',
+			entityType: 'instrument',
+			entityId: instrumentId,
+			newValues: { ...calibration },
+			clientAddress
+		});
+		await tx
+			.insert(calibrations)
+			.values({ id: randomUUID(), instrumentId, ...calibration, ...rec });
+	});
+}

@@ -1,0 +1,193 @@
+import { asc, desc, eq, inArray } from 'drizzle-orm';
+import { randomUUID } from 'node:crypto';
+import type { z } from 'zod';
+import type { lotSchema } from '$lib/schemas/master';
+import { db } from './db/index';
+import { partLots, parts, partVersions } from './db/schema/index';
+import {
+	appendRecordEvent,
+	isUniqueViolation,
+	mustHold,
+	RecordError,
+	type Recorder
+} from './records';
+
+/**
+ * Parts and lots (4/10): a part (number, description, material code) is versioned; each lot
+ * received is an append-only record. Consumption and the expiry check at use come with 5/10.
+ */
+type Details = { description: string; materialCode: string };
+export type Lot = z.infer<typeof lotSchema>;
+
+export async function listParts(siteId: string, q = '') {
+	const all = await db()
+		.select({ id: parts.id, partNumber: parts.partNumber })
+		.from(parts)
+		.where(eq(parts.siteId, siteId))
+		.orderBy(asc(parts.partNumber));
+	if (!all.length) return [];
+	const ids = all.map((p) => p.id);
+	const versions = await db()
+		.select()
+		.from(partVersions)
+		.where(inArray(partVersions.partId, ids))
+		.orderBy(desc(partVersions.version));
+	const lots = await db().select().from(partLots).where(inArray(partLots.partId, ids));
+	const needle = q.trim().toLowerCase();
+	return all
+		.map((p) => {
+			const v = versions.find((x) => x.partId === p.id)!;
+			const own = lots.filter((l) => l.partId === p.id);
+			return {
+				...p,
+				version: v.version,
+				description: v.description,
+				materialCode: v.materialCode,
+				lots: own.length,
+				lotNumbers: own.map((l) => l.supplierLot)
+			};
+		})
+		.filter(
+			(p) =>
+				!needle ||
+				[p.partNumber, p.description, p.materialCode, ...p.lotNumbers].some((t) =>
+					t.toLowerCase().includes(needle)
+				)
+		);
+}
+
+export async function getPart(id: string) {
+	const [identity] = await db().select().from(parts).where(eq(parts.id, id));
+	if (!identity) return undefined;
+	const versions = await db()
+		.select()
+		.from(partVersions)
+		.where(eq(partVersions.partId, id))
+		.orderBy(desc(partVersions.version));
+	const lots = await db()
+		.select()
+		.from(partLots)
+		.where(eq(partLots.partId, id))
+		.orderBy(desc(partLots.receivedOn), desc(partLots.auditSeq));
+	return { id, partNumber: identity.partNumber, current: versions[0]!, versions, lots };
+}
+
+export async function registerPart(
+	by: Recorder,
+	siteId: string,
+	input: Details & { partNumber: string },
+	clientAddress: string | null = null
+) {
+	mustHold(by, ['planner'], 'register parts');
+	const id = randomUUID();
+	const { partNumber, ...details } = input;
+	try {
+		await db().transaction(async (tx) => {
+			const rec = await appendRecordEvent(tx, by, {
+				action: 'part.register',
+				entityType: 'part',
+				entityId: id,
+				newValues: { partNumber, version: 1, ...details },
+				clientAddress
+			});
+			await tx.insert(parts).values({ id, siteId, partNumber, createdAt: rec.recordedAt });
+			await tx
+				.insert(partVersions)
+				.values({ id: randomUUID(), partId: id, version: 1, ...details, reason: null, ...rec });
+		});
+	} catch (e) {
+		if (isUniqueViolation(e))
+			throw new RecordError(
+				`The part number ${partNumber} is already registered.`,
+				'partNumber',
+				409
+			);
+		throw e;
+	}
+	return id;
+}
+
+export async function changePart(
+	by: Recorder,
+	id: string,
+	fromVersion: number,
+	details: Details,
+	reason: string,
+	clientAddress: string | null = null
+) {
+	mustHold(by, ['planner'], 'change parts');
+	try {
+		return await db().transaction(async (tx) => {
+			const [latest] = await tx
+				.select()
+				.from(partVersions)
+				.where(eq(partVersions.partId, id))
+				.orderBy(desc(partVersions.version))
+				.limit(1);
+			if (!latest) throw new RecordError('No such part.', undefined, 404);
+			if (latest.version !== fromVersion)
+				throw new RecordError(
+					`Someone saved version ${latest.version} meanwhile: reload the page and make the change again.`,
+					'reason',
+					409
+				);
+			const before = { description: latest.description, materialCode: latest.materialCode };
+			const next = { description: details.description, materialCode: details.materialCode };
+			if (JSON.stringify(before) === JSON.stringify(next))
+				throw new RecordError('Nothing was changed: there is no new version to save.', 'reason');
+			const version = latest.version + 1;
+			const rec = await appendRecordEvent(tx, by, {
+				action: 'part.change',
+				entityType: 'part',
+				entityId: id,
+				newValues: { version, ...next },
+				previousValues: { version: latest.version, ...before },
+				reason,
+				clientAddress
+			});
+			await tx
+				.insert(partVersions)
+				.values({ id: randomUUID(), partId: id, version, ...next, reason, ...rec });
+			return version;
+		});
+	} catch (e) {
+		if (isUniqueViolation(e, 'part_versions_number'))
+			throw new RecordError(
+				'Someone saved a new version at the same moment: reload and retry.',
+				'reason',
+				409
+			);
+		throw e;
+	}
+}
+
+export async function receiveLot(
+	by: Recorder,
+	partId: string,
+	lot: Lot,
+	clientAddress: string | null = null
+) {
+	mustHold(by, ['planner'], 'receive part lots');
+	const [identity] = await db().select().from(parts).where(eq(parts.id, partId));
+	if (!identity) throw new RecordError('No such part.', undefined, 404);
+	try {
+		await db().transaction(async (tx) => {
+			const rec = await appendRecordEvent(tx, by, {
+				action: 'part.lot_receive',
+				entityType: 'part',
+				entityId: partId,
+				newValues: { ...lot },
+				clientAddress
+			});
+			await tx.insert(partLots).values({ id: randomUUID(), partId, ...lot, ...rec });
+		});
+	} catch (e) {
+		if (isUniqueViolation(e))
+			throw new RecordError(
+				`Lot ${lot.supplierLot} of this part is already recorded.`,
+				'supplierLot',
+				409
+			);
+		throw e;
+	}
+}

@@ -1,0 +1,93 @@
+import { and, asc, desc, eq } from 'drizzle-orm';
+import { randomUUID } from 'node:crypto';
+import { addDays, qualifiedOn } from '$lib/fitness';
+import type { z } from 'zod';
+import type { qualificationSchema } from '$lib/schemas/master';
+import { db } from './db/index';
+import { accounts, procedures, qualifications } from './db/schema/index';
+import { appendRecordEvent, mustHold, RecordError, type Recorder } from './records';
+
+/**
+ * Qualifications (4/10, AC4): training records, append-only. A record covers a procedure and all
+ * its versions from the day trained to the day it expires; a later record extends it.
+ */
+export type Qualification = z.infer<typeof qualificationSchema>;
+
+export async function isQualified(accountId: string, procedureId: string, day: string) {
+	const rows = await db()
+		.select({ trainedOn: qualifications.trainedOn, expiresOn: qualifications.expiresOn })
+		.from(qualifications)
+		.where(
+			and(eq(qualifications.accountId, accountId), eq(qualifications.procedureId, procedureId))
+		);
+	return qualifiedOn(rows, day);
+}
+
+/** Training records, newest first, with whether each person is qualified on `day` and lapses within 30 days. */
+export async function listQualifications(day: string, accountId?: string) {
+	const rows = await db()
+		.select({
+			id: qualifications.id,
+			accountId: qualifications.accountId,
+			personName: accounts.fullName,
+			username: accounts.username,
+			procedureId: qualifications.procedureId,
+			procedureCode: procedures.code,
+			trainedOn: qualifications.trainedOn,
+			expiresOn: qualifications.expiresOn,
+			trainer: qualifications.trainer,
+			note: qualifications.note,
+			recordedByName: qualifications.recordedByName,
+			recordedAt: qualifications.recordedAt
+		})
+		.from(qualifications)
+		.innerJoin(accounts, eq(accounts.id, qualifications.accountId))
+		.innerJoin(procedures, eq(procedures.id, qualifications.procedureId))
+		.where(accountId ? eq(qualifications.accountId, accountId) : undefined)
+		.orderBy(asc(accounts.fullName), asc(procedures.code), desc(qualifications.expiresOn));
+	const soon = addDays(day, 30);
+	// One line per person and procedure: the record that reaches furthest decides.
+	const byPair = new Map<string, (typeof rows)[number][]>();
+	for (const r of rows) {
+		const key = `${r.accountId}:${r.procedureId}`;
+		byPair.set(key, [...(byPair.get(key) ?? []), r]);
+	}
+	return [...byPair.values()].map((records) => {
+		const latest = records[0]!;
+		const qualified = qualifiedOn(records, day);
+		return {
+			...latest,
+			records,
+			qualified,
+			lapsesSoon: qualified && latest.expiresOn <= soon
+		};
+	});
+}
+
+export async function recordQualification(
+	by: Recorder,
+	input: Qualification,
+	clientAddress: string | null = null
+) {
+	mustHold(by, ['planner', 'quality'], 'record training');
+	const [person] = await db()
+		.select({ id: accounts.id, roles: accounts.roles, active: accounts.active })
+		.from(accounts)
+		.where(eq(accounts.id, input.accountId));
+	if (!person || !person.active) throw new RecordError('Choose an active person.', 'accountId');
+	const [procedure] = await db()
+		.select({ id: procedures.id })
+		.from(procedures)
+		.where(eq(procedures.id, input.procedureId));
+	if (!procedure) throw new RecordError('Choose a procedure.', 'procedureId');
+	await db().transaction(async (tx) => {
+		const rec = await appendRecordEvent(tx, by, {
+			action: 'qualification.record',
+			entityType: 'account',
+			entityId: input.accountId,
+			newValues: { ...input },
+			clientAddress
+		});
+		await tx.insert(qualifications).values({ id: randomUUID(), ...input, ...rec });
+	});
+}

@@ -1,0 +1,36 @@
+import { fail, redirect } from '@sveltejs/kit';
+import { setError, superValidate } from 'sveltekit-superforms';
+import { zod4 } from 'sveltekit-superforms/adapters';
+import { registerInstrumentSchema } from '$lib/schemas/master';
+import { requireRole } from '$lib/server/auth/guard';
+import * as instruments from '$lib/server/instruments';
+import { currentSite } from '$lib/server/plant';
+import { personOf, RecordError } from '$lib/server/records';
+import type { Actions, PageServerLoad } from './$types';
+
+export const load: PageServerLoad = async (event) => {
+	await requireRole(event, 'planner');
+	return { form: await superValidate(zod4(registerInstrumentSchema)) };
+};
+
+export const actions: Actions = {
+	default: async (event) => {
+		const user = await requireRole(event, 'planner');
+		const form = await superValidate(event.request, zod4(registerInstrumentSchema));
+		if (!form.valid) return fail(400, { form });
+		const site = (await currentSite())!;
+		let id: string;
+		try {
+			id = await instruments.registerInstrument(
+				personOf(user),
+				site.id,
+				form.data,
+				event.getClientAddress()
+			);
+		} catch (e) {
+			if (e instanceof RecordError) return setError(form, 'code', e.message, { status: e.status });
+			throw e;
+		}
+		redirect(303, `/instruments/${id}`);
+	}
+};
