@@ -243,3 +243,10 @@ export function attributeText(key: string, value: unknown): string {
 	if (typeof value === 'boolean') return value ? 'Yes' : 'No';
 	return String(value);
 }
+
+/** Attributes in the order of their labels (jsonb does not keep the order they were written in). */
+export function orderedAttributes(attributes: Record<string, unknown>): [string, unknown][] {
+	const order = Object.keys(attributeLabels);
+	const rank = (k: string) => (order.includes(k) ? order.indexOf(k) : order.length);
+	return Object.entries(attributes).sort(([a], [b]) => rank(a) - rank(b) || a.localeCompare(b));
+}

@@ -13,15 +13,22 @@ import {
 // REQUIREMENTS: AC1 (server-side permissions), AC6 (deactivation at once), SE5 (lockout),
 // SE7 (idle timeout), SE8 (sign-out invalidates on the server), ES6 (one-time password).
 
+const master = ['Plant', 'Procedures', 'Instruments', 'Parts and lots', 'Qualifications'];
 const pagesByRole: Record<string, { sees: string[]; forbidden: string[] }> = {
-	tech1: { sees: ['Waiting for me', 'Plant'], forbidden: ['/people', '/audit'] },
-	planner: { sees: ['Waiting for me', 'Plant'], forbidden: ['/people'] },
-	quality: { sees: ['Waiting for me', 'Plant', 'Audit trail'], forbidden: ['/people'] },
-	inspector: {
-		sees: ['Waiting for me', 'Plant', 'Audit trail'],
-		forbidden: ['/people', '/people/new']
+	tech1: { sees: ['Waiting for me', ...master], forbidden: ['/people', '/audit', '/plant/new'] },
+	planner: { sees: ['Waiting for me', ...master], forbidden: ['/people'] },
+	quality: {
+		sees: ['Waiting for me', ...master, 'Audit trail'],
+		forbidden: ['/people', '/procedures/new']
 	},
-	admin: { sees: ['Waiting for me', 'People and access'], forbidden: ['/plant', '/audit'] }
+	inspector: {
+		sees: ['Waiting for me', ...master, 'Audit trail'],
+		forbidden: ['/people', '/people/new', '/instruments/new']
+	},
+	admin: {
+		sees: ['Waiting for me', 'People and access'],
+		forbidden: ['/plant', '/audit', '/procedures', '/qualifications']
+	}
 };
 
 test.describe('each demo role', () => {

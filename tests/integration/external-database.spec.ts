@@ -36,7 +36,7 @@ describe('npm start with DATABASE_URL', () => {
 		const run = await start(env, appPort);
 		expect(run.output()).toContain('DATABASE_URL is set: using that server, no local cluster');
 		expect(run.output()).toContain(
-			'demo data seeded (1 site, 3 buildings, 9 areas, 6 accounts added)'
+			'demo data seeded (1 site, 3 buildings, 9 areas, 6 accounts, 21 equipment, 5 instruments, 5 parts, 3 procedures, 5 qualifications added)'
 		);
 		expect(existsSync(join(dataDir, 'pg'))).toBe(false);
 

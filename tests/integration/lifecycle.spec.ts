@@ -43,7 +43,7 @@ describe('npm start, SIGTERM, npm start again', () => {
 		expect(existsSync(join(dataDir, 'pg', 'PG_VERSION'))).toBe(true);
 		expect(run.output()).toContain('creating a PostgreSQL cluster');
 		expect(run.output()).toContain(
-			'demo data seeded (1 site, 3 buildings, 9 areas, 6 accounts added)'
+			'demo data seeded (1 site, 3 buildings, 9 areas, 6 accounts, 21 equipment, 5 instruments, 5 parts, 3 procedures, 5 qualifications added)'
 		);
 
 		// The demo accounts exist: tech1 signs in over HTTP and reads the demo plant.

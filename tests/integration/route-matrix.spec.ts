@@ -7,21 +7,32 @@ import {
 	seedDemoAccounts,
 	seedDemoPlant
 } from '../../src/lib/server/db/seed';
-import { freshDatabase, type TestDatabase } from './helpers/database';
+import { seedDemoMasterData } from '../../src/lib/server/db/demo/index';
+import { appDatabase } from './helpers/app-database';
 import { serveBuiltApp, signInOverHttp } from './helpers/served-app';
 
 // The role × route matrix (REQUIREMENTS AC1; issue 2/10): every route that exists, requested by
 // every demo role and by an anonymous client, over HTTP against the built app. The expected
 // answer comes from $lib/access, whose completeness tests/unit/route-rules.spec.ts checks.
-let t: TestDatabase;
+let t: Awaited<ReturnType<typeof appDatabase>>;
+const ids: Record<string, string> = {};
 let app: Awaited<ReturnType<typeof serveBuiltApp>>;
 const cookies = new Map<string, string>();
 let someAccountId = '';
 
 beforeAll(async () => {
-	t = await freshDatabase();
+	t = await appDatabase();
 	await seedDemoPlant(t.owner);
 	await seedDemoAccounts(t.owner);
+	await seedDemoMasterData(DEMO_PASSWORD);
+	const one = async (query: Promise<unknown>) => ((await query) as { id: string }[])[0]!.id;
+	ids.equipment = await one(t.ownerSql`select id from equipment order by tag limit 1`);
+	ids.instrument = await one(t.ownerSql`select id from instruments order by code limit 1`);
+	ids.part = await one(t.ownerSql`select id from parts order by part_number limit 1`);
+	ids.procedure = await one(t.ownerSql`select id from procedures order by code limit 1`);
+	ids.version = await one(
+		t.ownerSql`select id from procedure_versions order by recorded_at limit 1`
+	);
 	[{ id: someAccountId }] =
 		(await t.ownerSql`select id from accounts where username = 'tech1'`) as unknown as [
 			{ id: string }
@@ -43,6 +54,23 @@ const paths = (): Record<string, string> => ({
 	'/(app)': '/',
 	'/(app)/account': '/account',
 	'/(app)/plant': '/plant',
+	'/(app)/plant/new': '/plant/new',
+	'/(app)/plant/[id=uuid]': `/plant/${ids.equipment}`,
+	'/(app)/plant/[id=uuid]/change': `/plant/${ids.equipment}/change`,
+	'/(app)/instruments': '/instruments',
+	'/(app)/instruments/new': '/instruments/new',
+	'/(app)/instruments/[id=uuid]': `/instruments/${ids.instrument}`,
+	'/(app)/parts': '/parts',
+	'/(app)/parts/new': '/parts/new',
+	'/(app)/parts/[id=uuid]': `/parts/${ids.part}`,
+	'/(app)/procedures': '/procedures',
+	'/(app)/procedures/new': '/procedures/new',
+	'/(app)/procedures/[id=uuid]': `/procedures/${ids.procedure}`,
+	'/(app)/procedures/[id=uuid]/compare': `/procedures/${ids.procedure}/compare`,
+	'/(app)/procedures/versions/[id=uuid]': `/procedures/versions/${ids.version}`,
+	// An approved version: its editor answers 409 to a Planner (allowed, but nothing to edit).
+	'/(app)/procedures/versions/[id=uuid]/edit': `/procedures/versions/${ids.version}/edit`,
+	'/(app)/qualifications': '/qualifications',
 	'/(app)/people': '/people',
 	'/(app)/people/new': '/people/new',
 	'/(app)/people/[id=uuid]': `/people/${someAccountId}`,
@@ -54,7 +82,7 @@ const paths = (): Record<string, string> => ({
 	'/(app)/audit': '/audit',
 	'/api/[...path]': '/api/v1/no-such-thing'
 });
-const layoutsOnly = ['/', '/api', '/api/v1', '/api/v1/audit'];
+const layoutsOnly = ['/', '/api', '/api/v1', '/api/v1/audit', '/(app)/procedures/versions'];
 
 const get = (path: string, cookie?: string) =>
 	fetch(`${app.origin}${path}`, { redirect: 'manual', headers: cookie ? { cookie } : {} });
@@ -119,6 +147,21 @@ describe('role × route matrix', () => {
 			actor_name: 'Iris Moravec',
 			new_values: { path: '/people/new' }
 		});
+	});
+
+	it('a technician’s POST to register equipment is refused with 403 and stores nothing (AC1)', async () => {
+		const response = await fetch(`${app.origin}/plant/new`, {
+			method: 'POST',
+			redirect: 'manual',
+			headers: {
+				origin: app.origin,
+				cookie: cookies.get('tech1')!,
+				'content-type': 'application/x-www-form-urlencoded'
+			},
+			body: new URLSearchParams({ __superform_json: JSON.stringify([{ tag: 'XV-9999' }]) })
+		});
+		expect(response.status).toBe(403);
+		expect(await t.ownerSql`select 1 from equipment where tag = 'XV-9999'`).toHaveLength(0);
 	});
 
 	it('an anonymous POST to an action goes nowhere', async () => {

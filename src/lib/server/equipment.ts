@@ -1,3 +1,4 @@
+import canonicalize from 'canonicalize';
 import { and, asc, desc, eq, sql } from 'drizzle-orm';
 import { randomUUID } from 'node:crypto';
 import {
@@ -23,6 +24,7 @@ import {
 	appendRecordEvent,
 	isUniqueViolation,
 	mustHold,
+	needReason,
 	RecordError,
 	type Recorder
 } from './records';
@@ -272,6 +274,7 @@ export async function changeEquipment(
 	clientAddress: string | null = null
 ) {
 	mustHold(by, ['planner'], 'change equipment');
+	needReason(reason);
 	const attributes = checkAttributes(details);
 	const [identity] = await db().select().from(equipment).where(eq(equipment.id, id));
 	if (!identity) throw new RecordError('No such equipment.', undefined, 404);
@@ -304,7 +307,8 @@ export async function changeEquipment(
 				gmpCritical: latest.gmpCritical,
 				attributes: latest.attributes
 			};
-			if (JSON.stringify(next) === JSON.stringify(before))
+			// jsonb does not keep key order: compare canonical forms (RFC 8785).
+			if (canonicalize(next) === canonicalize(before))
 				throw new RecordError('Nothing was changed: there is no new version to save.', 'reason');
 			const version = latest.version + 1;
 			const rec = await appendRecordEvent(tx, by, {
@@ -384,6 +388,7 @@ export async function changeQuarantine(
 	clientAddress: string | null = null
 ) {
 	mustHold(by, ['quality'], 'quarantine equipment or end a quarantine');
+	needReason(reason);
 	await db().transaction(async (tx) => {
 		await tx.execute(
 			sql`select pg_advisory_xact_lock(hashtextextended(${'equipment:' + equipmentId}, 0))`

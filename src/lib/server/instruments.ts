@@ -9,6 +9,7 @@ import {
 	appendRecordEvent,
 	isUniqueViolation,
 	mustHold,
+	needReason,
 	RecordError,
 	type Recorder
 } from './records';
@@ -163,6 +164,7 @@ export async function changeInstrument(
 	clientAddress: string | null = null
 ) {
 	mustHold(by, ['planner'], 'change reference instruments');
+	needReason(reason);
 	try {
 		return await db().transaction(async (tx) => {
 			const [latest] = await tx

@@ -8,6 +8,7 @@ import {
 	appendRecordEvent,
 	isUniqueViolation,
 	mustHold,
+	needReason,
 	RecordError,
 	type Recorder
 } from './records';
@@ -116,6 +117,7 @@ export async function changePart(
 	clientAddress: string | null = null
 ) {
 	mustHold(by, ['planner'], 'change parts');
+	needReason(reason);
 	try {
 		return await db().transaction(async (tx) => {
 			const [latest] = await tx

@@ -1,3 +1,4 @@
+import canonicalize from 'canonicalize';
 import { asc, desc, eq, inArray, sql } from 'drizzle-orm';
 import { randomUUID } from 'node:crypto';
 import {
@@ -17,6 +18,7 @@ import {
 	appendRecordEvent,
 	isUniqueViolation,
 	mustHold,
+	needReason,
 	personOf,
 	RecordError,
 	type Recorder
@@ -286,7 +288,7 @@ export async function saveDraft(
 					undefined,
 					409
 				);
-			if (JSON.stringify(latest.content) === JSON.stringify(clean)) return latest.revision;
+			if (canonicalize(latest.content) === canonicalize(clean)) return latest.revision;
 			const revision = latest.revision + 1;
 			const rec = await appendRecordEvent(tx, by, {
 				action: 'procedure.draft_save',
@@ -327,6 +329,7 @@ export async function startNewVersion(
 	clientAddress: string | null = null
 ) {
 	mustHold(by, ['planner'], 'write procedures');
+	needReason(reason);
 	const found = await getProcedure(procedureId);
 	if (!found) throw new RecordError('No such procedure.', undefined, 404);
 	const open = found.versions.find((v) => v.status === 'draft');

@@ -60,3 +60,9 @@ export function isUniqueViolation(e: unknown, constraint?: string) {
 	const pg = err as { code?: string; constraint_name?: string };
 	return pg?.code === '23505' && (!constraint || pg.constraint_name === constraint);
 }
+
+/** Every change of GMP data carries a reason (AT2); the forms ask for it, and this refuses a blank one. */
+export function needReason(reason: string) {
+	if (!reason || !reason.trim())
+		throw new RecordError('Give a reason: it is kept in the audit trail.', 'reason');
+}
