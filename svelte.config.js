@@ -9,7 +9,20 @@ const config = {
 		runes: ({ filename }) => (filename.split(/[/\\]/).includes('node_modules') ? undefined : true)
 	},
 	kit: {
-		adapter: adapter({ out: 'build' })
+		adapter: adapter({ out: 'build' }),
+		typescript: {
+			// The setup scripts and benchmarks are plain JS with JSDoc types: type-check them too, so
+			// that a missing import fails `npm run check` instead of a benchmark run.
+			config: (tsconfig) => ({
+				...tsconfig,
+				include: [
+					...tsconfig.include,
+					'../scripts/**/*.js',
+					'../scripts/**/*.mjs',
+					'../bench/**/*.js'
+				]
+			})
+		}
 	}
 };
 

@@ -91,8 +91,11 @@ console.log(
 console.log(`  ratio             ${(chained / raw).toFixed(2)} (target ≥ 0.5)`);
 
 // 2. Fill the chain to `total` events in bulk (hashes computed here, as the app would), then verify.
-const [{ seq: headSeq, hash: headHash }] =
-	await owner`select seq::int8 as seq, encode(hash, 'hex') as hash from audit_chain_head`;
+const [{ seq: headSeq, hash: headHash }] = /** @type {[{ seq: string, hash: string }]} */ (
+	/** @type {unknown} */ (
+		await owner`select seq::int8 as seq, encode(hash, 'hex') as hash from audit_chain_head`
+	)
+);
 let seq = Number(headSeq);
 let prev = headHash;
 const fillStart = performance.now();
@@ -153,7 +156,7 @@ for (let after = 0; ;) {
 		from audit_event where seq > ${after} order by seq limit 20000`;
 	if (rows.length === 0) break;
 	for (const row of rows) texts.push(chain.canonicalText(chain.fieldsOf(/** @type {any} */ (row))));
-	after = Number(rows.at(-1).seq);
+	after = Number(rows.at(-1)?.seq);
 	if (texts.length >= 200_000) break; // a sample is enough for a rate
 }
 const prevBytes = Buffer.alloc(32);

@@ -23,7 +23,7 @@ const passwords = await tsImport('../src/lib/server/auth/passwords.ts', import.m
 
 const pct = (/** @type {number[]} */ xs, /** @type {number} */ p) => {
 	const s = [...xs].sort((a, b) => a - b);
-	return s[Math.min(s.length - 1, Math.floor((p / 100) * s.length))];
+	return s[Math.min(s.length - 1, Math.floor((p / 100) * s.length))] ?? Number.NaN;
 };
 const ms = (/** @type {number} */ x) => `${x.toFixed(1)} ms`;
 
@@ -95,6 +95,7 @@ for (let i = 0; ; i++) {
 
 const seconds = 10;
 const until = performance.now() + seconds * 1000;
+/** @type {number[]} */
 const latencies = [];
 let ok = 0;
 let failed = 0;

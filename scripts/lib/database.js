@@ -3,15 +3,18 @@
 // Imported only after ensureDependencies(): it uses drizzle-orm, postgres and tsx.
 import { drizzle } from 'drizzle-orm/postgres-js';
 import { migrate } from 'drizzle-orm/postgres-js/migrator';
+import { randomBytes } from 'node:crypto';
 import { join } from 'node:path';
 import postgres from 'postgres';
 import { tsImport } from 'tsx/esm/api';
 import {
 	createDatabase,
 	databaseExists,
+	dropDatabase,
 	ensureCluster,
 	ensureRoles,
-	startCluster
+	startCluster,
+	stopCluster
 } from './cluster.js';
 import { localUrl, pg, root, say } from './local.js';
 import { registerKitAliases } from './register-kit-aliases.js';

@@ -1,9 +1,17 @@
 import { describe, expect, it } from 'vitest';
 import { retighteningCheck } from './server/db/demo/procedures';
-import { compareContents } from './procedure-compare';
+import { compareContents, movedKeys } from './procedure-compare';
 import { blankField, blankStep, type ProcedureContent } from './schemas/procedure';
 
 const base = (): ProcedureContent => structuredClone(retighteningCheck);
+
+describe('movedKeys', () => {
+	it('marks only what left the longest common order', () => {
+		expect([...movedKeys(['a', 'b', 'c', 'd'], ['b', 'c', 'd', 'a'])]).toEqual(['a']);
+		expect([...movedKeys(['a', 'b', 'c'], ['a', 'b', 'c'])]).toEqual([]);
+		expect(movedKeys(['a', 'b', 'c', 'd'], ['d', 'c', 'b', 'a']).size).toBe(3);
+	});
+});
 
 describe('compareContents (MR5: what changed between two versions)', () => {
 	it('finds nothing between equal contents', () => {
@@ -39,7 +47,8 @@ describe('compareContents (MR5: what changed between two versions)', () => {
 				place: expect.stringContaining('A fastener turned')
 			})
 		);
-		expect(changes.filter((c) => c.kind === 'moved')).toHaveLength(2);
+		// Two steps swapped: one of them moved past the other.
+		expect(changes.filter((c) => c.kind === 'moved')).toHaveLength(1);
 	});
 	it('shows a new field with its facts, and a changed caution and flag', () => {
 		const next = base();

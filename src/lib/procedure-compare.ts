@@ -28,6 +28,32 @@ export type Change = {
 
 const yesNo = (v: boolean) => (v ? 'Yes' : 'No');
 
+/**
+ * Keys that moved: those outside a longest common subsequence of the two orders, so moving one
+ * step to the end marks that step alone as moved, not every step it passed.
+ */
+export function movedKeys(before: string[], after: string[]): Set<string> {
+	const n = before.length;
+	const m = after.length;
+	const len: number[][] = Array.from({ length: n + 1 }, () => new Array<number>(m + 1).fill(0));
+	for (let i = n - 1; i >= 0; i--)
+		for (let j = m - 1; j >= 0; j--)
+			len[i]![j] =
+				before[i] === after[j]
+					? len[i + 1]![j + 1]! + 1
+					: Math.max(len[i + 1]![j]!, len[i]![j + 1]!);
+	const kept = new Set<string>();
+	for (let i = 0, j = 0; i < n && j < m;) {
+		if (before[i] === after[j]) {
+			kept.add(before[i]!);
+			i++;
+			j++;
+		} else if (len[i + 1]![j]! >= len[i]![j + 1]!) i++;
+		else j++;
+	}
+	return new Set(after.filter((k) => !kept.has(k)));
+}
+
 const cautionsText = (step: ProcedureStep) =>
 	step.cautions.map((c) => `${hazardLabels[c.hazard as Hazard]}: ${c.text}`).join('\n');
 
@@ -92,6 +118,7 @@ export function compareContents(a: ProcedureContent, b: ProcedureContent): Chang
 	// Relative order of the steps both versions share: a step moved only if that order changed.
 	const sharedOld = a.steps.filter((s) => newSteps.has(s.key)).map((s) => s.key);
 	const sharedNew = b.steps.filter((s) => oldSteps.has(s.key)).map((s) => s.key);
+	const movedSteps = movedKeys(sharedOld, sharedNew);
 
 	for (const [key, { step, n }] of newSteps) {
 		const old = oldSteps.get(key);
@@ -100,7 +127,7 @@ export function compareContents(a: ProcedureContent, b: ProcedureContent): Chang
 			out.push({ place, what: 'Step', kind: 'added', before: '', after: step.title });
 			continue;
 		}
-		if (sharedOld.indexOf(key) !== sharedNew.indexOf(key))
+		if (movedSteps.has(key))
 			out.push({
 				place,
 				what: 'Position',
@@ -128,6 +155,7 @@ export function compareContents(a: ProcedureContent, b: ProcedureContent): Chang
 		const newFields = new Map(step.fields.map((f) => [f.key, f]));
 		const sharedOldF = old.step.fields.filter((f) => newFields.has(f.key)).map((f) => f.key);
 		const sharedNewF = step.fields.filter((f) => oldFields.has(f.key)).map((f) => f.key);
+		const movedFields = movedKeys(sharedOldF, sharedNewF);
 		for (const f of step.fields) {
 			const before = oldFields.get(f.key);
 			const fieldPlace = `${place} · Field “${f.label}”`;
@@ -141,7 +169,7 @@ export function compareContents(a: ProcedureContent, b: ProcedureContent): Chang
 				});
 				continue;
 			}
-			if (sharedOldF.indexOf(f.key) !== sharedNewF.indexOf(f.key))
+			if (movedFields.has(f.key))
 				out.push({
 					place: fieldPlace,
 					what: 'Position',

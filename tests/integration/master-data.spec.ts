@@ -528,6 +528,149 @@ describe('qualifications (AC4)', () => {
 	});
 });
 
+describe('refusals found in review', () => {
+	it('nobody records their own training; only technicians are trained; no training in the future', async () => {
+		const dv = (await procedures.findProcedureByCode('MP-DV-01'))!;
+		const training = {
+			procedureId: dv,
+			trainedOn: today,
+			expiresOn: addDays(today, 365),
+			trainer: 'T',
+			note: ''
+		};
+		const [{ id: both }] =
+			(await t.ownerSql`select id from accounts where username = 'both'`) as unknown as [
+				{ id: string }
+			];
+		expect(
+			(
+				await refusal(
+					qualifications.recordQualification(personOf(people.both!), {
+						...training,
+						accountId: both
+					})
+				)
+			).status
+		).toBe(403);
+		const [denied] =
+			await t.ownerSql`select new_values from audit_event where action = 'auth.access_denied' and entity_id = ${both} order by seq desc limit 1`;
+		expect(denied!.new_values.what).toBe('record own training');
+		expect(
+			(
+				await refusal(
+					qualifications.recordQualification(personOf(people.quality!), {
+						...training,
+						accountId: people.planner!.id
+					})
+				)
+			).field
+		).toBe('accountId');
+		expect(
+			(
+				await refusal(
+					qualifications.recordQualification(personOf(people.quality!), {
+						...training,
+						accountId: people.tech1!.id,
+						trainedOn: addDays(today, 1)
+					})
+				)
+			).field
+		).toBe('trainedOn');
+	});
+	it('a calibration or a lot cannot be recorded for a day after today', async () => {
+		const i = (await instruments.listInstruments(siteId, today))[0]!;
+		const future = addDays(today, 2);
+		const e = await refusal(
+			instruments.recordCalibration(personOf(people.planner!), i.id, {
+				performedOn: future,
+				dueOn: addDays(future, 10),
+				certificate: 'X',
+				asFound: 'within',
+				asLeft: 'pass',
+				note: ''
+			})
+		);
+		expect(e.field).toBe('performedOn');
+		const p = (await parts.listParts(siteId))[0]!;
+		expect(
+			(
+				await refusal(
+					parts.receiveLot(personOf(people.planner!), p.id, {
+						supplierLot: 'FUT-1',
+						receivedOn: future,
+						expiresOn: null,
+						quantityReceived: 1
+					})
+				)
+			).field
+		).toBe('receivedOn');
+	});
+	it('refused role checks are audited (AT7); an author’s attempt to approve is audited as a refused signing', async () => {
+		const id = (await equipment.findByTag('XV-3102'))!;
+		await refusal(equipment.changeQuarantine(personOf(people.tech1!), id, true, 'No'));
+		const [denied] =
+			await t.ownerSql`select actor_name, new_values from audit_event where action = 'auth.access_denied' order by seq desc limit 1`;
+		expect(denied).toMatchObject({
+			actor_name: people.tech1!.name,
+			new_values: { what: 'quarantine equipment or end a quarantine' }
+		});
+		const content = structuredClone(
+			(await procedures.effectiveVersion((await procedures.findProcedureByCode('MP-DV-02'))!))!
+				.content
+		);
+		const { versionId } = await procedures.createProcedure(
+			personOf(people.both!),
+			siteId,
+			'MP-TS-02',
+			content
+		);
+		await refusal(procedures.approveVersion(people.both!, versionId, 1, DEMO_PASSWORD));
+		const [refused] =
+			await t.ownerSql`select actor_name, new_values from audit_event where action = 'signature.refused' and entity_id = ${versionId}`;
+		expect(refused).toMatchObject({
+			actor_name: 'Bo Thorsen',
+			new_values: { reason: 'author_cannot_approve' }
+		});
+	});
+	it('the database refuses an approval whose signature is not the approver’s Approved signature of that version', async () => {
+		const id = (await procedures.findProcedureByCode('MP-TS-02'))!;
+		const v = (await procedures.getProcedure(id))!.versions[0]!;
+		const [other] =
+			await t.ownerSql`select id from signatures where signer_id = ${people.quality!.id} limit 1`;
+		await expect(
+			t.appSql`insert into procedure_approvals (id, version_id, revision, signature_id, recorded_by, recorded_by_name, recorded_at, audit_seq)
+				values (gen_random_uuid(), ${v.id}, 1, ${other!.id}, ${people.quality!.id}, 'x', now(), 1)`
+		).rejects.toThrow(/needs the approver's Approved signature of this version/);
+	});
+	it('procedure content from a caller other than the form is checked by the same schema', async () => {
+		const id = (await procedures.findProcedureByCode('MP-TS-02'))!;
+		const v = (await procedures.getProcedure(id))!.versions[0]!;
+		const bad = { ...v.content, steps: [] };
+		expect(
+			(await refusal(procedures.saveDraft(personOf(people.planner!), v.id, v.revision, bad))).field
+		).toBe('content');
+	});
+	it('usage records must add a positive, finite amount', async () => {
+		const id = (await equipment.findByTag('XV-3101'))!;
+		const { db } = await import('../../src/lib/server/db/index');
+		for (const amount of [0, -1, Number.NaN, Number.POSITIVE_INFINITY])
+			expect(
+				(
+					await refusal(
+						db().transaction((tx) =>
+							equipment.recordUsage(tx, { kind: 'system', name: 'test' }, id, {
+								kind: 'sip_cycles',
+								amount,
+								occurredAt: new Date(),
+								note: ''
+							})
+						)
+					)
+				).field
+			).toBe('amount');
+	});
+});
+
 describe('the audit trail after all of it', () => {
 	it('verifies end to end', async () => {
 		expect(await verifyChain(t.ownerSql)).toMatchObject({ ok: true, firstBadSeq: null });

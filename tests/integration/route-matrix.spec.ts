@@ -164,6 +164,25 @@ describe('role × route matrix', () => {
 		expect(await t.ownerSql`select 1 from equipment where tag = 'XV-9999'`).toHaveLength(0);
 	});
 
+	it('a blank reason for a change is answered 422 and stores nothing (AT2)', async () => {
+		const post = (reason: string) =>
+			fetch(`${app.origin}/plant/${ids.equipment}?/quarantine`, {
+				method: 'POST',
+				redirect: 'manual',
+				headers: {
+					origin: app.origin,
+					accept: 'text/html',
+					cookie: cookies.get('quality')!,
+					'content-type': 'application/x-www-form-urlencoded'
+				},
+				body: new URLSearchParams({ reason })
+			});
+		for (const reason of ['', '   \t ']) expect((await post(reason)).status).toBe(422);
+		const rows = await t.ownerSql`select 1 from equipment_status_changes
+			where equipment_id = ${ids.equipment} and status = 'quarantined'`;
+		expect(rows).toHaveLength(0);
+	});
+
 	it('an anonymous POST to an action goes nowhere', async () => {
 		const response = await fetch(`${app.origin}/people/new`, {
 			method: 'POST',

@@ -18,7 +18,13 @@ const optionalWords = (max = 500) =>
 		.max(max, `Keep it under ${max} characters.`)
 		.refine(isStorableText, unstorableTextMessage)
 		.default('');
-const isoDay = (label: string) => z.iso.date({ error: `Enter the ${label} as a date.` });
+/** A calendar date (YYYY-MM-DD) in a range PostgreSQL and people both read the same way. */
+const isoDay = (label: string) =>
+	z.iso
+		.date({ error: `Enter the ${label} as a date.` })
+		.refine((d) => d >= '1900-01-01' && d <= '2199-12-31', {
+			message: `Enter the ${label} between 1900 and 2199.`
+		});
 const code = (label: string, example: string) =>
 	z
 		.string({ error: `Enter the ${label}.` })

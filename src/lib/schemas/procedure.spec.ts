@@ -54,6 +54,24 @@ describe('procedure content schema', () => {
 			])
 		);
 	});
+	it('refuses a limit written with more decimals than the field shows (the signer must see it whole)', () => {
+		const c = content();
+		c.steps[0]!.fields = [
+			{
+				...blankField('f-1'),
+				label: 'Gap',
+				unit: 'mm',
+				decimals: 1,
+				limitType: 'range',
+				min: 2.04,
+				max: 3.5
+			}
+		];
+		const paths = procedureContentSchema.safeParse(c).error!.issues.map((i) => i.path.join('.'));
+		expect(paths).toEqual(['steps.0.fields.0.min']);
+		c.steps[0]!.fields[0]!.decimals = 2;
+		expect(procedureContentSchema.safeParse(c).success).toBe(true);
+	});
 	it('needs at least one step', () => {
 		expect(procedureContentSchema.safeParse({ ...content(), steps: [] }).success).toBe(false);
 	});

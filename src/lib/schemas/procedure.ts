@@ -105,6 +105,12 @@ export const fieldSchema = z
 			ctx.addIssue({ code: 'custom', path: [path], message });
 		if (f.kind === 'number') {
 			if (!f.unit) need('unit', 'Give the unit (for example mm, N·m, L/min).');
+			// A limit is shown with the field's decimals: it must not hide digits the signer cannot see.
+			for (const key of ['min', 'max', 'target', 'tolerance'] as const) {
+				const v = f[key];
+				if (v !== null && Number(v.toFixed(f.decimals)) !== v)
+					need(key, `Write this with at most ${f.decimals} decimals, or allow more decimals.`);
+			}
 			if (f.limitType === 'range') {
 				if (f.min === null && f.max === null) need('min', 'Give a minimum, a maximum or both.');
 				if (f.min !== null && f.max !== null && f.min > f.max)

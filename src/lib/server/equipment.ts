@@ -5,6 +5,7 @@ import {
 	attributeSchemas,
 	equipmentStatuses,
 	equipmentStatusLabels,
+	usageKinds,
 	usageKindLabels,
 	type EquipmentClass,
 	type EquipmentDetails,
@@ -213,7 +214,7 @@ export async function registerEquipment(
 	details: EquipmentDetails,
 	clientAddress: string | null = null
 ) {
-	mustHold(by, ['planner'], 'register equipment');
+	await mustHold(by, ['planner'], 'register equipment');
 	const attributes = checkAttributes(details);
 	const id = randomUUID();
 	try {
@@ -273,7 +274,7 @@ export async function changeEquipment(
 	reason: string,
 	clientAddress: string | null = null
 ) {
-	mustHold(by, ['planner'], 'change equipment');
+	await mustHold(by, ['planner'], 'change equipment');
 	needReason(reason);
 	const attributes = checkAttributes(details);
 	const [identity] = await db().select().from(equipment).where(eq(equipment.id, id));
@@ -350,6 +351,8 @@ export async function setStatus(
 	clientAddress: string | null = null
 ) {
 	if (!equipmentStatuses.includes(status)) throw new RecordError('Unknown status.', 'status');
+	// One status change of a piece of equipment at a time (quarantine vs a work order's start).
+	await lockEquipment(tx, equipmentId);
 	const [previous] = await tx
 		.select({ status: equipmentStatusChanges.status })
 		.from(equipmentStatusChanges)
@@ -387,12 +390,10 @@ export async function changeQuarantine(
 	reason: string,
 	clientAddress: string | null = null
 ) {
-	mustHold(by, ['quality'], 'quarantine equipment or end a quarantine');
+	await mustHold(by, ['quality'], 'quarantine equipment or end a quarantine');
 	needReason(reason);
 	await db().transaction(async (tx) => {
-		await tx.execute(
-			sql`select pg_advisory_xact_lock(hashtextextended(${'equipment:' + equipmentId}, 0))`
-		);
+		await lockEquipment(tx, equipmentId);
 		const [latest] = await tx
 			.select({ status: equipmentStatusChanges.status })
 			.from(equipmentStatusChanges)
@@ -422,6 +423,12 @@ export async function changeQuarantine(
 	});
 }
 
+async function lockEquipment(tx: Transaction, equipmentId: string) {
+	await tx.execute(
+		sql`select pg_advisory_xact_lock(hashtextextended(${'equipment:' + equipmentId}, 0))`
+	);
+}
+
 /** A usage record (steam-in-place cycles or operating hours) added to the counter. */
 export async function recordUsage(
 	tx: Transaction,
@@ -430,6 +437,11 @@ export async function recordUsage(
 	usage: { kind: UsageKind; amount: number; occurredAt: Date; note: string },
 	clientAddress: string | null = null
 ) {
+	if (!usageKinds.includes(usage.kind)) throw new RecordError('Unknown usage kind.', 'kind');
+	if (!Number.isFinite(usage.amount) || usage.amount <= 0 || usage.amount > 1_000_000)
+		throw new RecordError('A usage record adds a positive amount.', 'amount');
+	if (Number.isNaN(usage.occurredAt.getTime()))
+		throw new RecordError('Give the time of the usage.', 'occurredAt');
 	const rec = await appendRecordEvent(tx, by, {
 		action: 'equipment.usage',
 		entityType: 'equipment',

@@ -10,6 +10,7 @@ import {
 	isUniqueViolation,
 	mustHold,
 	needReason,
+	notInFuture,
 	RecordError,
 	type Recorder
 } from './records';
@@ -125,7 +126,7 @@ export async function registerInstrument(
 	input: Details & { code: string },
 	clientAddress: string | null = null
 ) {
-	mustHold(by, ['planner'], 'register reference instruments');
+	await mustHold(by, ['planner'], 'register reference instruments');
 	const id = randomUUID();
 	const { code, ...details } = input;
 	try {
@@ -163,7 +164,7 @@ export async function changeInstrument(
 	reason: string,
 	clientAddress: string | null = null
 ) {
-	mustHold(by, ['planner'], 'change reference instruments');
+	await mustHold(by, ['planner'], 'change reference instruments');
 	needReason(reason);
 	try {
 		return await db().transaction(async (tx) => {
@@ -233,9 +234,10 @@ export async function recordCalibration(
 	calibration: Calibration,
 	clientAddress: string | null = null
 ) {
-	mustHold(by, ['planner', 'quality'], 'record calibrations');
+	await mustHold(by, ['planner', 'quality'], 'record calibrations');
 	const [identity] = await db().select().from(instruments).where(eq(instruments.id, instrumentId));
 	if (!identity) throw new RecordError('No such instrument.', undefined, 404);
+	await notInFuture(calibration.performedOn, 'performedOn', 'calibration date');
 	await db().transaction(async (tx) => {
 		const rec = await appendRecordEvent(tx, by, {
 			action: 'instrument.calibration',

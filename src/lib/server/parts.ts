@@ -9,6 +9,7 @@ import {
 	isUniqueViolation,
 	mustHold,
 	needReason,
+	notInFuture,
 	RecordError,
 	type Recorder
 } from './records';
@@ -79,7 +80,7 @@ export async function registerPart(
 	input: Details & { partNumber: string },
 	clientAddress: string | null = null
 ) {
-	mustHold(by, ['planner'], 'register parts');
+	await mustHold(by, ['planner'], 'register parts');
 	const id = randomUUID();
 	const { partNumber, ...details } = input;
 	try {
@@ -116,7 +117,7 @@ export async function changePart(
 	reason: string,
 	clientAddress: string | null = null
 ) {
-	mustHold(by, ['planner'], 'change parts');
+	await mustHold(by, ['planner'], 'change parts');
 	needReason(reason);
 	try {
 		return await db().transaction(async (tx) => {
@@ -169,9 +170,10 @@ export async function receiveLot(
 	lot: Lot,
 	clientAddress: string | null = null
 ) {
-	mustHold(by, ['planner'], 'receive part lots');
+	await mustHold(by, ['planner'], 'receive part lots');
 	const [identity] = await db().select().from(parts).where(eq(parts.id, partId));
 	if (!identity) throw new RecordError('No such part.', undefined, 404);
+	await notInFuture(lot.receivedOn, 'receivedOn', 'date received');
 	try {
 		await db().transaction(async (tx) => {
 			const rec = await appendRecordEvent(tx, by, {

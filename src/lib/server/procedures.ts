@@ -3,9 +3,11 @@ import { asc, desc, eq, inArray, sql } from 'drizzle-orm';
 import { randomUUID } from 'node:crypto';
 import {
 	cleanContent,
+	procedureContentSchema,
 	procedureVersionSignedContent,
 	type ProcedureContent
 } from '$lib/schemas/procedure';
+import { recordEventNow } from './audit/now';
 import type { User } from './auth/guard';
 import { db, type Transaction } from './db/index';
 import {
@@ -220,6 +222,17 @@ export function signedRecord(
 	};
 }
 
+/** The content checked by the same schema as the form (callers other than forms are checked too), then cleaned. */
+function validContent(content: ProcedureContent) {
+	const parsed = procedureContentSchema.safeParse(content);
+	if (!parsed.success)
+		throw new RecordError(
+			`The procedure content is not valid: ${parsed.error.issues[0]?.message ?? 'check the fields'}.`,
+			'content'
+		);
+	return cleanContent(parsed.data);
+}
+
 /** A new procedure: version 1 as a draft with its first revision. */
 export async function createProcedure(
 	by: Recorder,
@@ -228,8 +241,8 @@ export async function createProcedure(
 	content: ProcedureContent,
 	clientAddress: string | null = null
 ) {
-	mustHold(by, ['planner'], 'write procedures');
-	const clean = cleanContent(content);
+	await mustHold(by, ['planner'], 'write procedures');
+	const clean = validContent(content);
 	const id = randomUUID();
 	const versionId = randomUUID();
 	try {
@@ -265,8 +278,8 @@ export async function saveDraft(
 	content: ProcedureContent,
 	clientAddress: string | null = null
 ) {
-	mustHold(by, ['planner'], 'write procedures');
-	const clean = cleanContent(content);
+	await mustHold(by, ['planner'], 'write procedures');
+	const clean = validContent(content);
 	try {
 		return await db().transaction(async (tx) => {
 			await lockVersion(tx, versionId);
@@ -328,7 +341,7 @@ export async function startNewVersion(
 	reason: string,
 	clientAddress: string | null = null
 ) {
-	mustHold(by, ['planner'], 'write procedures');
+	await mustHold(by, ['planner'], 'write procedures');
 	needReason(reason);
 	const found = await getProcedure(procedureId);
 	if (!found) throw new RecordError('No such procedure.', undefined, 404);
@@ -384,7 +397,7 @@ export async function approveVersion(
 	clientAddress: string | null = null
 ) {
 	const by = personOf(user);
-	mustHold(by, ['quality'], 'approve procedures');
+	await mustHold(by, ['quality'], 'approve procedures');
 	const found = await getVersion(versionId);
 	if (!found) throw new RecordError('No such procedure version.', undefined, 404);
 	const check = (v: typeof found) => {
@@ -403,8 +416,18 @@ export async function approveVersion(
 				409
 			);
 	};
-	check(found);
 	const record = signedRecord(found.procedure.code, found.version);
+	if (found.authors.includes(user.id) && found.version.status === 'draft')
+		// A refused signing is an event too (AT7), before the refusal reaches the person.
+		await recordEventNow({
+			actor: by,
+			action: 'signature.refused',
+			entityType: record.type,
+			entityId: record.id,
+			newValues: { meaning: 'approved', reason: 'author_cannot_approve' },
+			clientAddress
+		});
+	check(found);
 	await reauthenticate(user, password, { record, meaning: 'approved' }, clientAddress);
 	return db().transaction(async (tx) => {
 		await lockVersion(tx, versionId);

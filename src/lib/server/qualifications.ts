@@ -5,7 +5,14 @@ import type { z } from 'zod';
 import type { qualificationSchema } from '$lib/schemas/master';
 import { db } from './db/index';
 import { accounts, procedures, qualifications } from './db/schema/index';
-import { appendRecordEvent, mustHold, RecordError, type Recorder } from './records';
+import {
+	appendRecordEvent,
+	mustHold,
+	notInFuture,
+	RecordError,
+	refuse,
+	type Recorder
+} from './records';
 
 /**
  * Qualifications (4/10, AC4): training records, append-only. A record covers a procedure and all
@@ -53,7 +60,8 @@ export async function listQualifications(day: string, accountId?: string) {
 		byPair.set(key, [...(byPair.get(key) ?? []), r]);
 	}
 	return [...byPair.values()].map((records) => {
-		const latest = records[0]!;
+		// The record in force today decides; else the one that reaches furthest.
+		const latest = records.find((r) => r.trainedOn <= day && day <= r.expiresOn) ?? records[0]!;
 		const qualified = qualifiedOn(records, day);
 		return {
 			...latest,
@@ -69,18 +77,32 @@ export async function recordQualification(
 	input: Qualification,
 	clientAddress: string | null = null
 ) {
-	mustHold(by, ['planner', 'quality'], 'record training');
-	const [person] = await db()
-		.select({ id: accounts.id, roles: accounts.roles, active: accounts.active })
-		.from(accounts)
-		.where(eq(accounts.id, input.accountId));
-	if (!person || !person.active) throw new RecordError('Choose an active person.', 'accountId');
-	const [procedure] = await db()
-		.select({ id: procedures.id })
-		.from(procedures)
-		.where(eq(procedures.id, input.procedureId));
-	if (!procedure) throw new RecordError('Choose a procedure.', 'procedureId');
+	await mustHold(by, ['planner', 'quality'], 'record training');
+	// Nobody records their own training: it would let them qualify themselves to sign (AC4).
+	if (by.kind === 'person' && by.id === input.accountId)
+		await refuse(
+			by,
+			'You cannot record your own training: someone else must.',
+			{ what: 'record own training' },
+			{ type: 'account', id: input.accountId }
+		);
+	await notInFuture(input.trainedOn, 'trainedOn', 'training date');
 	await db().transaction(async (tx) => {
+		const [person] = await tx
+			.select({ id: accounts.id, roles: accounts.roles, active: accounts.active })
+			.from(accounts)
+			.where(eq(accounts.id, input.accountId));
+		if (!person || !person.active) throw new RecordError('Choose an active person.', 'accountId');
+		if (!person.roles.includes('technician') || person.roles.includes('administrator'))
+			throw new RecordError(
+				'Only technicians perform and verify steps: choose a person with the Technician role.',
+				'accountId'
+			);
+		const [procedure] = await tx
+			.select({ id: procedures.id })
+			.from(procedures)
+			.where(eq(procedures.id, input.procedureId));
+		if (!procedure) throw new RecordError('Choose a procedure.', 'procedureId');
 		const rec = await appendRecordEvent(tx, by, {
 			action: 'qualification.record',
 			entityType: 'account',

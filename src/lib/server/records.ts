@@ -1,5 +1,8 @@
 import type { Role } from '$lib/roles';
 import { recordEvent, type Actor, type AuditInput } from './audit/index';
+import { siteToday } from '$lib/fitness';
+import { recordEventNow } from './audit/now';
+import { currentSite } from './plant';
 import type { User } from './auth/guard';
 
 /**
@@ -13,7 +16,7 @@ export class RecordError extends Error {
 	constructor(
 		message: string,
 		readonly field?: string,
-		readonly status: 400 | 403 | 404 | 409 = 400
+		readonly status: 400 | 403 | 404 | 409 | 422 = 400
 	) {
 		super(message);
 	}
@@ -31,12 +34,35 @@ export const personOf = (user: User): Recorder => ({
 
 /**
  * The module's own role check, behind the route's (defence in depth): a person needs one of the
- * roles; an administrator never changes GMP records (AC3). System jobs are trusted callers.
+ * roles; an administrator never changes GMP records (AC3). A refusal is itself an audit event
+ * (AT7). System jobs are trusted callers.
  */
-export function mustHold(by: Recorder, roles: readonly Role[], what: string) {
+export async function mustHold(
+	by: Recorder,
+	roles: readonly Role[],
+	what: string,
+	entity?: { type: string; id: string | null }
+) {
 	if (by.kind !== 'person') return;
 	if (by.roles.includes('administrator') || !by.roles.some((r) => roles.includes(r)))
-		throw new RecordError(`Your roles do not allow you to ${what}.`, undefined, 403);
+		await refuse(by, `Your roles do not allow you to ${what}.`, { needed: roles, what }, entity);
+}
+
+/** Records a refused request as `auth.access_denied` (AT7), then throws the 403. */
+export async function refuse(
+	by: Recorder,
+	message: string,
+	details: Record<string, unknown>,
+	entity?: { type: string; id: string | null }
+): Promise<never> {
+	await recordEventNow({
+		actor: by,
+		action: 'auth.access_denied',
+		entityType: entity?.type ?? 'function',
+		entityId: entity?.id ?? null,
+		newValues: { ...details, message }
+	});
+	throw new RecordError(message, undefined, 403);
 }
 
 /** Appends the audit event of a record and returns the columns that tie the row to it. */
@@ -54,6 +80,16 @@ export async function appendRecordEvent(
 	};
 }
 
+/**
+ * Refuses a day after today at the site (a calibration, training or delivery cannot have happened
+ * yet): contemporaneous records (DI1).
+ */
+export async function notInFuture(day: string, field: string, what: string) {
+	const site = await currentSite();
+	if (site && day > siteToday(site.timeZone))
+		throw new RecordError(`The ${what} cannot be after today at the site.`, field);
+}
+
 /** True when a PostgreSQL error is a unique-constraint violation (a lost race or a repeated id). */
 export function isUniqueViolation(e: unknown, constraint?: string) {
 	const err = (e as { cause?: unknown })?.cause ?? e;
@@ -64,5 +100,5 @@ export function isUniqueViolation(e: unknown, constraint?: string) {
 /** Every change of GMP data carries a reason (AT2); the forms ask for it, and this refuses a blank one. */
 export function needReason(reason: string) {
 	if (!reason || !reason.trim())
-		throw new RecordError('Give a reason: it is kept in the audit trail.', 'reason');
+		throw new RecordError('Give a reason: it is kept in the audit trail.', 'reason', 422);
 }

@@ -432,6 +432,11 @@ export async function seedDemoMasterData(password: string): Promise<MasterSeedRe
 		const found = await procedures.findProcedureByCode(p.code);
 		if (found) {
 			procedureIds.set(p.code, found);
+			// A run stopped between writing and approving leaves a draft: approve it now.
+			if (!(await procedures.effectiveVersion(found))) {
+				const draft = (await procedures.getProcedure(found))!.versions[0]!;
+				await procedures.approveVersion(quality, draft.id, draft.revision, password);
+			}
 			continue;
 		}
 		const { id, versionId } = await procedures.createProcedure(

@@ -1,9 +1,10 @@
-import { error, fail } from '@sveltejs/kit';
+import { error } from '@sveltejs/kit';
 import { message, setError, superValidate } from 'sveltekit-superforms';
 import { zod4 } from 'sveltekit-superforms/adapters';
 import { siteToday } from '$lib/fitness';
 import { calibrationSchema, changeInstrumentSchema } from '$lib/schemas/master';
 import { requireRole } from '$lib/server/auth/guard';
+import { refused } from '$lib/server/forms';
 import * as instruments from '$lib/server/instruments';
 import { currentSite } from '$lib/server/plant';
 import { personOf, RecordError } from '$lib/server/records';
@@ -54,7 +55,7 @@ export const actions: Actions = {
 	calibrate: async (event) => {
 		const user = await requireRole(event, 'planner', 'quality');
 		const form = await superValidate(event.request, zod4(calibrationSchema), { id: 'calibration' });
-		if (!form.valid) return fail(400, { form });
+		if (!form.valid) return refused(form);
 		try {
 			await instruments.recordCalibration(
 				personOf(user),
@@ -72,7 +73,7 @@ export const actions: Actions = {
 	change: async (event) => {
 		const user = await requireRole(event, 'planner');
 		const form = await superValidate(event.request, zod4(changeInstrumentSchema), { id: 'change' });
-		if (!form.valid) return fail(400, { form });
+		if (!form.valid) return refused(form);
 		const { fromVersion, reason, ...details } = form.data;
 		try {
 			await instruments.changeInstrument(

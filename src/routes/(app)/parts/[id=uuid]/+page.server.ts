@@ -1,9 +1,10 @@
-import { error, fail } from '@sveltejs/kit';
+import { error } from '@sveltejs/kit';
 import { message, setError, superValidate } from 'sveltekit-superforms';
 import { zod4 } from 'sveltekit-superforms/adapters';
 import { siteToday } from '$lib/fitness';
 import { changePartSchema, lotSchema } from '$lib/schemas/master';
 import { requireRole } from '$lib/server/auth/guard';
+import { refused } from '$lib/server/forms';
 import * as parts from '$lib/server/parts';
 import { currentSite } from '$lib/server/plant';
 import { personOf, RecordError } from '$lib/server/records';
@@ -52,7 +53,7 @@ export const actions: Actions = {
 	lot: async (event) => {
 		const user = await requireRole(event, 'planner');
 		const form = await superValidate(event.request, zod4(lotSchema), { id: 'lot' });
-		if (!form.valid) return fail(400, { form });
+		if (!form.valid) return refused(form);
 		try {
 			await parts.receiveLot(personOf(user), event.params.id, form.data, event.getClientAddress());
 		} catch (e) {
@@ -65,7 +66,7 @@ export const actions: Actions = {
 	change: async (event) => {
 		const user = await requireRole(event, 'planner');
 		const form = await superValidate(event.request, zod4(changePartSchema), { id: 'change' });
-		if (!form.valid) return fail(400, { form });
+		if (!form.valid) return refused(form);
 		const { fromVersion, reason, ...details } = form.data;
 		try {
 			await parts.changePart(

@@ -1,10 +1,11 @@
-import { error, fail } from '@sveltejs/kit';
+import { error } from '@sveltejs/kit';
 import { message, setError, superValidate } from 'sveltekit-superforms';
 import { zod4 } from 'sveltekit-superforms/adapters';
 import { statusOf } from '$lib/account-status';
 import { changeRolesSchema, reasonOnlySchema } from '$lib/schemas/accounts';
 import * as accounts from '$lib/server/accounts';
 import { requireRole } from '$lib/server/auth/guard';
+import { refused } from '$lib/server/forms';
 import type { Actions, PageServerLoad, RequestEvent } from './$types';
 
 export const load: PageServerLoad = async (event) => {
@@ -54,7 +55,7 @@ async function withReason(
 ) {
 	const admin = await requireRole(event, 'administrator');
 	const form = await superValidate(event.request, zod4(reasonOnlySchema), { id });
-	if (!form.valid) return fail(400, { form });
+	if (!form.valid) return refused(form);
 	try {
 		const oneTimePassword = await change(admin, form.data.reason);
 		form.data.reason = '';
@@ -71,7 +72,7 @@ export const actions: Actions = {
 	roles: async (event) => {
 		const admin = await requireRole(event, 'administrator');
 		const form = await superValidate(event.request, zod4(changeRolesSchema), { id: 'roles' });
-		if (!form.valid) return fail(400, { form });
+		if (!form.valid) return refused(form);
 		try {
 			await accounts.changeRoles(
 				admin,

@@ -1,8 +1,9 @@
-import { error, fail } from '@sveltejs/kit';
+import { error } from '@sveltejs/kit';
 import { message, setError, superValidate } from 'sveltekit-superforms';
 import { zod4 } from 'sveltekit-superforms/adapters';
 import { statusChangeSchema } from '$lib/schemas/master';
 import { requireRole } from '$lib/server/auth/guard';
+import { refused } from '$lib/server/forms';
 import * as equipment from '$lib/server/equipment';
 import { personOf, RecordError } from '$lib/server/records';
 import type { Actions, PageServerLoad, RequestEvent } from './$types';
@@ -27,7 +28,7 @@ export const load: PageServerLoad = async (event) => {
 async function quarantine(event: RequestEvent, on: boolean) {
 	const user = await requireRole(event, 'quality');
 	const form = await superValidate(event.request, zod4(statusChangeSchema), { id: 'quarantine' });
-	if (!form.valid) return fail(400, { form });
+	if (!form.valid) return refused(form);
 	try {
 		await equipment.changeQuarantine(
 			personOf(user),

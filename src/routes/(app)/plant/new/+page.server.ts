@@ -1,8 +1,9 @@
-import { fail, redirect } from '@sveltejs/kit';
+import { redirect } from '@sveltejs/kit';
 import { message, setError, superValidate } from 'sveltekit-superforms';
 import { zod4 } from 'sveltekit-superforms/adapters';
 import { blankAttributes, equipmentFormSchema } from '$lib/equipment';
 import { requireRole } from '$lib/server/auth/guard';
+import { refused } from '$lib/server/forms';
 import * as equipment from '$lib/server/equipment';
 import { currentSite } from '$lib/server/plant';
 import { personOf, RecordError } from '$lib/server/records';
@@ -32,7 +33,7 @@ export const actions: Actions = {
 	default: async (event) => {
 		const user = await requireRole(event, 'planner');
 		const form = await superValidate(event.request, zod4(equipmentFormSchema));
-		if (!form.valid) return fail(400, { form });
+		if (!form.valid) return refused(form);
 		const site = (await currentSite())!;
 		let id: string;
 		try {

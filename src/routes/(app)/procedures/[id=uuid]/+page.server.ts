@@ -1,8 +1,9 @@
-import { error, fail, redirect } from '@sveltejs/kit';
+import { error, redirect } from '@sveltejs/kit';
 import { setError, superValidate } from 'sveltekit-superforms';
 import { zod4 } from 'sveltekit-superforms/adapters';
 import { statusChangeSchema } from '$lib/schemas/master';
 import { requireRole } from '$lib/server/auth/guard';
+import { refused } from '$lib/server/forms';
 import * as procedures from '$lib/server/procedures';
 import { personOf, RecordError } from '$lib/server/records';
 import type { Actions, PageServerLoad } from './$types';
@@ -39,7 +40,7 @@ export const actions: Actions = {
 		const form = await superValidate(event.request, zod4(statusChangeSchema), {
 			id: 'new-version'
 		});
-		if (!form.valid) return fail(400, { form });
+		if (!form.valid) return refused(form);
 		let versionId: string;
 		try {
 			versionId = await procedures.startNewVersion(

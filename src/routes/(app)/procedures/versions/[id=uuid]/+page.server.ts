@@ -1,8 +1,9 @@
-import { error, fail } from '@sveltejs/kit';
+import { error } from '@sveltejs/kit';
 import { message, setError, superValidate } from 'sveltekit-superforms';
 import { zod4 } from 'sveltekit-superforms/adapters';
 import { signSchema } from '$lib/schemas/signature';
 import { requireRole } from '$lib/server/auth/guard';
+import { refused } from '$lib/server/forms';
 import * as procedures from '$lib/server/procedures';
 import { RecordError } from '$lib/server/records';
 import { SignatureError } from '$lib/server/signatures/index';
@@ -55,7 +56,7 @@ export const actions: Actions = {
 	approve: async (event) => {
 		const user = await requireRole(event, 'quality');
 		const form = await superValidate(event.request, zod4(signSchema), { id: 'approve' });
-		if (!form.valid) return fail(400, { form });
+		if (!form.valid) return refused(form);
 		try {
 			await procedures.approveVersion(
 				user,
