@@ -179,7 +179,7 @@ describe('role × route matrix', () => {
 			});
 		for (const reason of ['', '   \t ']) expect((await post(reason)).status).toBe(422);
 		const rows = await t.ownerSql`select 1 from equipment_status_changes
-			where equipment_id = ${ids.equipment} and status = 'quarantined'`;
+			where equipment_id = ${ids.equipment!} and status = 'quarantined'`;
 		expect(rows).toHaveLength(0);
 	});
 
