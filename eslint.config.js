@@ -9,6 +9,7 @@ export default ts.config(
 	{
 		ignores: [
 			'build/',
+			'build-test/',
 			'.svelte-kit/',
 			'.data/',
 			'node_modules/',

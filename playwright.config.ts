@@ -41,7 +41,7 @@ export default defineConfig({
 		}
 	],
 	webServer: {
-		command: 'node build',
+		command: `node ${process.env.COUNTERSIGN_BUILD_DIR ?? 'build'}`,
 		url: `${origin}/api/v1/health`,
 		reuseExistingServer: false,
 		timeout: 60_000,

@@ -9,7 +9,9 @@ const config = {
 		runes: ({ filename }) => (filename.split(/[/\\]/).includes('node_modules') ? undefined : true)
 	},
 	kit: {
-		adapter: adapter({ out: 'build' }),
+		// npm test builds into build-test/ (COUNTERSIGN_BUILD_DIR), so that it never replaces the files
+		// of an app that `npm start` is serving from build/.
+		adapter: adapter({ out: process.env.COUNTERSIGN_BUILD_DIR ?? 'build' }),
 		typescript: {
 			// The setup scripts and benchmarks are plain JS with JSDoc types: type-check them too, so
 			// that a missing import fails `npm run check` instead of a benchmark run.

@@ -21,6 +21,8 @@ const dashes = process.argv.indexOf('--');
 const extra = only && dashes > 0 ? process.argv.slice(dashes + 1) : [];
 
 ensureDependencies();
+// Tests build and serve their own copy of the app: a running `npm start` keeps its build/.
+process.env.COUNTERSIGN_BUILD_DIR ??= 'build-test';
 const { root, localUrl, localSecrets, say } = await import('./lib/local.js');
 const { ensureDebianPackages } = await import('./lib/system.js');
 const cluster = await import('./lib/cluster.js');

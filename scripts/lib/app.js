@@ -4,7 +4,8 @@ import { existsSync, readdirSync, statSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { fail, localSecrets, root, say } from './local.js';
 
-const buildDir = join(root, 'build');
+/** build/ for npm start; npm test sets COUNTERSIGN_BUILD_DIR=build-test (see svelte.config.js). */
+export const buildDir = join(root, process.env.COUNTERSIGN_BUILD_DIR ?? 'build');
 const stamp = join(buildDir, '.built-from');
 const inputs = [
 	'src',
@@ -28,7 +29,7 @@ function newestInput() {
 	return newest;
 }
 
-/** Runs `vite build` unless build/ is newer than every source file. */
+/** Runs `vite build` unless the build folder is newer than every source file. */
 export function buildIfStale() {
 	if (existsSync(stamp) && statSync(stamp).mtimeMs >= newestInput()) {
 		say('build is up to date');

@@ -9,21 +9,25 @@ export async function serveBuiltApp(
 	extraEnv: Record<string, string> = {}
 ) {
 	const origin = `http://127.0.0.1:${port}`;
-	const child: ChildProcess = spawn(process.execPath, [join(root, 'build')], {
-		cwd: root,
-		env: {
-			...process.env,
-			NODE_ENV: 'production',
-			DATABASE_URL: databaseUrl,
-			HOST: '127.0.0.1',
-			PORT: String(port),
-			ORIGIN: origin,
-			AUTH_SECRET: 'integration-test-secret-0123456789abcdef',
-			AUTH_DELAY_FREE_PER_ADDRESS: '1000',
-			...extraEnv
-		},
-		stdio: ['ignore', 'ignore', 'pipe']
-	});
+	const child: ChildProcess = spawn(
+		process.execPath,
+		[join(root, process.env.COUNTERSIGN_BUILD_DIR ?? 'build')],
+		{
+			cwd: root,
+			env: {
+				...process.env,
+				NODE_ENV: 'production',
+				DATABASE_URL: databaseUrl,
+				HOST: '127.0.0.1',
+				PORT: String(port),
+				ORIGIN: origin,
+				AUTH_SECRET: 'integration-test-secret-0123456789abcdef',
+				AUTH_DELAY_FREE_PER_ADDRESS: '1000',
+				...extraEnv
+			},
+			stdio: ['ignore', 'ignore', 'pipe']
+		}
+	);
 	let stderr = '';
 	child.stderr!.on('data', (d) => (stderr += d));
 	const deadline = Date.now() + 30_000;
