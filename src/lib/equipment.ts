@@ -78,11 +78,23 @@ const positive = (label: string) =>
 		.number({ error: `Enter the ${label} as a number.` })
 		.positive(`The ${label} must be above zero.`);
 
+/**
+ * A material code as the part lots carry it: capitals, spaces as hyphens ("dm epdm 70" is
+ * DM-EPDM-70), so that the lot check of a work order compares like with like.
+ */
+export const materialCode = z
+	.string({ error: 'Enter the material code.' })
+	.trim()
+	.min(1, 'Enter the material code.')
+	.max(40, 'Keep the material code under 40 characters.')
+	.transform((c) => c.toUpperCase().replace(/\s+/g, '-'))
+	.refine((c) => /^[A-Z0-9][A-Z0-9./-]*$/.test(c), 'Use letters, digits and - . / only.');
+
 /** Attributes of a diaphragm valve: what the diaphragm job needs from the register. */
 export const diaphragmValveAttributes = z
 	.object({
 		nominalSize: text('nominal size (for example DN 25)', 20),
-		diaphragmMaterialCode: text('diaphragm material code', 40),
+		diaphragmMaterialCode: materialCode,
 		actuatorFailPosition: z.enum(failPositions, { error: 'Choose the actuator fail position.' }),
 		bodyMaterial: text('body material', 60),
 		bonnetFasteners: z

@@ -108,6 +108,8 @@ test('a Planner writes a draft with three typed steps; Quality approves it with 
 
 	// Step 2: pass / fail, verification required
 	await planner.getByRole('button', { name: 'Add a step' }).click();
+	// Keyboard users land in the new step (found by trying the app).
+	await expect(planner.getByLabel('Step title').nth(1)).toBeFocused();
 	await planner.getByLabel('Step title').nth(1).fill('Check for leaks');
 	await planner.getByLabel('Instruction').nth(1).fill('Look for leaks at the bonnet.');
 	await planner

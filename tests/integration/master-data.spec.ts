@@ -650,6 +650,61 @@ describe('refusals found in review', () => {
 			(await refusal(procedures.saveDraft(personOf(people.planner!), v.id, v.revision, bad))).field
 		).toBe('content');
 	});
+	it('a follow-up must name another procedure that exists (found by trying the app)', async () => {
+		const content = structuredClone(
+			(await procedures.effectiveVersion((await procedures.findProcedureByCode('MP-DV-01'))!))!
+				.content
+		);
+		for (const followUpCode of ['MP-NOPE-99', 'MP-TS-03'])
+			expect(
+				(
+					await refusal(
+						procedures.createProcedure(personOf(people.planner!), siteId, 'MP-TS-03', {
+							...content,
+							followUpCode
+						})
+					)
+				).field
+			).toBe('followUpCode');
+	});
+	it('part-lot, tightening and compression fields need a procedure for diaphragm valves', async () => {
+		const content = structuredClone(
+			(await procedures.effectiveVersion((await procedures.findProcedureByCode('MP-DV-01'))!))!
+				.content
+		);
+		const e = await refusal(
+			procedures.createProcedure(personOf(people.planner!), siteId, 'MP-TS-04', {
+				...content,
+				appliesTo: 'pump',
+				followUpCode: null
+			})
+		);
+		expect(e.field).toBe('content');
+		expect(e.message).toMatch(/needs a diaphragm valve’s data/);
+	});
+	it('a lot number differing only in case is the same lot; material codes are stored in capitals', async () => {
+		const p = (await parts.listParts(siteId, 'DIA-040-EP'))[0]!;
+		expect(
+			(
+				await refusal(
+					parts.receiveLot(personOf(people.planner!), p.id, {
+						supplierLot: 'l25-0630',
+						receivedOn: today,
+						expiresOn: null,
+						quantityReceived: 1
+					})
+				)
+			).status
+		).toBe(409);
+		const { registerPartSchema } = await import('../../src/lib/schemas/master');
+		expect(
+			registerPartSchema.parse({
+				partNumber: 'dia-x',
+				description: 'X',
+				materialCode: ' dm epdm 70 '
+			}).materialCode
+		).toBe('DM-EPDM-70');
+	});
 	it('usage records must add a positive, finite amount', async () => {
 		const id = (await equipment.findByTag('XV-3101'))!;
 		const { db } = await import('../../src/lib/server/db/index');

@@ -1,4 +1,5 @@
 import { z } from 'zod';
+import { materialCode } from '../equipment';
 import { reasonSchema } from './reason';
 import { isStorableText, unstorableTextMessage } from './text';
 
@@ -21,7 +22,7 @@ const optionalWords = (max = 500) =>
 /** A calendar date (YYYY-MM-DD) in a range PostgreSQL and people both read the same way. */
 const isoDay = (label: string) =>
 	z.iso
-		.date({ error: `Enter the ${label} as a date.` })
+		.date({ error: `Enter the ${label} as a date.`, abort: true })
 		.refine((d) => d >= '1900-01-01' && d <= '2199-12-31', {
 			message: `Enter the ${label} between 1900 and 2199.`
 		});
@@ -80,14 +81,14 @@ export const calibrationSchema = z
 		asLeft: z.enum(['pass', 'fail'], { error: 'Choose the as-left result.' }),
 		note: optionalWords()
 	})
-	.refine((c) => c.performedOn <= c.dueOn, {
+	.refine((c) => c.performedOn < c.dueOn, {
 		path: ['dueOn'],
-		message: 'The due date cannot be before the calibration date.'
+		message: 'The due date must be after the calibration date.'
 	});
 
 const partFields = {
 	description: words('description', 200),
-	materialCode: words('material code', 40)
+	materialCode
 };
 export const registerPartSchema = z.object({
 	partNumber: code('part number', 'DIA-025-EP'),
@@ -124,9 +125,9 @@ export const qualificationSchema = z
 		trainer: words('trainer', 120),
 		note: optionalWords()
 	})
-	.refine((q) => q.trainedOn <= q.expiresOn, {
+	.refine((q) => q.trainedOn < q.expiresOn, {
 		path: ['expiresOn'],
-		message: 'The expiry date cannot be before the training date.'
+		message: 'The expiry date must be after the training date.'
 	});
 
 export const statusChangeSchema = z.object({ reason: reasonSchema });
@@ -137,6 +138,24 @@ export const masterChangeReasons = [
 	'Manufacturer’s data updated',
 	'Moved to another area',
 	'Entered by mistake'
+] as const;
+
+/** Reasons to quarantine equipment or end a quarantine (common practice, no source). */
+export const statusChangeReasons = [
+	'Suspected contamination',
+	'Failed inspection or leak found',
+	'Awaiting the investigation of a deviation',
+	'Investigation closed: no impact on the equipment',
+	'Repaired and verified under a work order'
+] as const;
+
+/** Reasons to change an instrument's or a part's data. */
+export const recordChangeReasons = [
+	'Data corrected against the certificate or delivery note',
+	'Manufacturer’s data updated',
+	'Damaged, lost or scrapped',
+	'Entered by mistake',
+	'Wording made clearer'
 ] as const;
 
 export const procedureChangeReasons = [

@@ -175,8 +175,27 @@ export const procedureContentSchema = z
 		const keys = c.steps.map((s) => s.key);
 		if (new Set(keys).size !== keys.length)
 			ctx.addIssue({ code: 'custom', path: ['steps'], message: 'Two steps share a key.' });
+		// These fields read the diaphragm valve's own data (material code, fasteners, compression band).
+		if (c.appliesTo !== 'diaphragm_valve')
+			c.steps.forEach((s, i) =>
+				s.fields.forEach((f, j) => {
+					if (valveOnly(f))
+						ctx.addIssue({
+							code: 'custom',
+							path: ['steps', i, 'fields', j, 'kind'],
+							message:
+								'This kind of field needs a diaphragm valve’s data: set “Applies to” to Diaphragm valve.'
+						});
+				})
+			);
 	});
 export type ProcedureContent = z.infer<typeof procedureContentSchema>;
+
+/** Fields that read a diaphragm valve's data: part lots (material code), tightening (fasteners), compression. */
+export const valveOnly = (f: { kind: FieldKind; calculation: Calculation | null }) =>
+	f.kind === 'part_lot' ||
+	f.kind === 'tightening' ||
+	(f.kind === 'calculated' && f.calculation === 'diaphragm_compression');
 
 /** What each kind of field uses; everything else is stored as null (or empty). */
 export function cleanField(f: ProcedureField): ProcedureField {

@@ -62,6 +62,8 @@ type ListRow = {
 export async function listEquipment(siteId: string, filter: EquipmentListFilter = {}) {
 	const q = filter.q?.trim().toLowerCase() ?? '';
 	const like = `%${q.replace(/[\\%_]/g, (c) => `\\${c}`)}%`;
+	// "xv 31" and "xv31" find XV-3101: tags are matched without their hyphens and spaces too.
+	const compact = `%${q.replace(/[\s-]+/g, '').replace(/[\\%_]/g, (c) => `\\${c}`)}%`;
 	const order = {
 		tag: sql`e.tag`,
 		area: sql`a.code, e.tag`,
@@ -82,7 +84,12 @@ export async function listEquipment(siteId: string, filter: EquipmentListFilter 
 				sum(amount) filter (where kind = 'operating_hours') as hours
 			from ${equipmentUsage} where equipment_id = e.id) u on true
 		where e.site_id = ${siteId}
-			${q ? sql`and (lower(e.tag) like ${like} or lower(v.description) like ${like} or lower(v.attributes::text) like ${like})` : sql``}
+			${
+				q
+					? sql`and (lower(e.tag) like ${like} or translate(lower(e.tag), '- ', '') like ${compact}
+				or lower(v.description) like ${like} or lower(v.attributes::text) like ${like})`
+					: sql``
+			}
 			${filter.areaId ? sql`and a.id = ${filter.areaId}` : sql``}
 			${filter.equipmentClass ? sql`and v.equipment_class = ${filter.equipmentClass}` : sql``}
 			${filter.status ? sql`and coalesce(s.status, 'in_service') = ${filter.status}` : sql``}

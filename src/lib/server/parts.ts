@@ -1,4 +1,4 @@
-import { asc, desc, eq, inArray } from 'drizzle-orm';
+import { and, asc, desc, eq, inArray, sql } from 'drizzle-orm';
 import { randomUUID } from 'node:crypto';
 import type { z } from 'zod';
 import type { lotSchema } from '$lib/schemas/master';
@@ -176,6 +176,22 @@ export async function receiveLot(
 	await notInFuture(lot.receivedOn, 'receivedOn', 'date received');
 	try {
 		await db().transaction(async (tx) => {
+			// "L25-0412" and "l25-0412" are one lot: refuse the second whatever its case.
+			const same = await tx
+				.select({ lot: partLots.supplierLot })
+				.from(partLots)
+				.where(
+					and(
+						eq(partLots.partId, partId),
+						sql`lower(${partLots.supplierLot}) = lower(${lot.supplierLot})`
+					)
+				);
+			if (same.length)
+				throw new RecordError(
+					`Lot ${same[0]!.lot} of this part is already recorded.`,
+					'supplierLot',
+					409
+				);
 			const rec = await appendRecordEvent(tx, by, {
 				action: 'part.lot_receive',
 				entityType: 'part',

@@ -223,14 +223,29 @@ export function signedRecord(
 }
 
 /** The content checked by the same schema as the form (callers other than forms are checked too), then cleaned. */
-function validContent(content: ProcedureContent) {
+async function validContent(content: ProcedureContent, ownCode: string) {
 	const parsed = procedureContentSchema.safeParse(content);
 	if (!parsed.success)
 		throw new RecordError(
 			`The procedure content is not valid: ${parsed.error.issues[0]?.message ?? 'check the fields'}.`,
 			'content'
 		);
-	return cleanContent(parsed.data);
+	const clean = cleanContent(parsed.data);
+	await followUpExists(clean, ownCode);
+	return clean;
+}
+
+/** A follow-up must name another procedure that exists, so that work can be planned from it. */
+async function followUpExists(content: ProcedureContent, ownCode: string) {
+	const code = content.followUpCode;
+	if (!code) return;
+	if (code === ownCode.toUpperCase())
+		throw new RecordError('A procedure cannot be its own follow-up.', 'followUpCode');
+	if (!(await findProcedureByCode(code)))
+		throw new RecordError(
+			`There is no procedure ${code}: write it first, or leave the follow-up empty.`,
+			'followUpCode'
+		);
 }
 
 /** A new procedure: version 1 as a draft with its first revision. */
@@ -242,7 +257,7 @@ export async function createProcedure(
 	clientAddress: string | null = null
 ) {
 	await mustHold(by, ['planner'], 'write procedures');
-	const clean = validContent(content);
+	const clean = await validContent(content, code);
 	const id = randomUUID();
 	const versionId = randomUUID();
 	try {
@@ -279,7 +294,13 @@ export async function saveDraft(
 	clientAddress: string | null = null
 ) {
 	await mustHold(by, ['planner'], 'write procedures');
-	const clean = validContent(content);
+	const [owner] = await db()
+		.select({ code: procedures.code })
+		.from(procedureVersions)
+		.innerJoin(procedures, eq(procedures.id, procedureVersions.procedureId))
+		.where(eq(procedureVersions.id, versionId));
+	if (!owner) throw new RecordError('No such procedure version.', undefined, 404);
+	const clean = await validContent(content, owner.code);
 	try {
 		return await db().transaction(async (tx) => {
 			await lockVersion(tx, versionId);
@@ -411,11 +432,12 @@ export async function approveVersion(
 			);
 		if (v.version.revision !== seenRevision)
 			throw new RecordError(
-				'The draft was saved again after you opened it: read the new revision before approving.',
+				'The draft was saved again after you opened it. The page now shows the new revision: close this, read it, then sign.',
 				undefined,
 				409
 			);
 	};
+	await followUpExists(found.version.content, found.procedure.code);
 	const record = signedRecord(found.procedure.code, found.version);
 	if (found.authors.includes(user.id) && found.version.status === 'draft')
 		// A refused signing is an event too (AT7), before the refusal reaches the person.

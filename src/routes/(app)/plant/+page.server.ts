@@ -6,7 +6,10 @@ import type { PageServerLoad } from './$types';
 
 /** The filters live in the URL, so a view can be shared; anything unknown is ignored, never a 500. */
 const filterSchema = z.object({
-	q: z.string().max(100).catch(''),
+	q: z
+		.string()
+		.catch('')
+		.transform((q) => q.slice(0, 100)),
 	area: z.uuid().optional().catch(undefined),
 	class: z.enum(equipmentClasses).optional().catch(undefined),
 	status: z.enum(equipmentStatuses).optional().catch(undefined),

@@ -423,8 +423,9 @@ export async function seedDemoMasterData(password: string): Promise<MasterSeedRe
 	const planner = await person('planner');
 	const quality = await person('quality');
 	const demoProcedures = [
-		{ code: 'MP-DV-01', content: diaphragmReplacement },
+		// The re-tightening check first: the diaphragm replacement names it as its follow-up.
 		{ code: 'MP-DV-02', content: retighteningCheck },
+		{ code: 'MP-DV-01', content: diaphragmReplacement },
 		{ code: 'MP-PU-01', content: sealInspection }
 	];
 	const procedureIds = new Map<string, string>();

@@ -58,7 +58,9 @@ export const actions: Actions = {
 			await parts.receiveLot(personOf(user), event.params.id, form.data, event.getClientAddress());
 		} catch (e) {
 			if (e instanceof RecordError)
-				return setError(form, 'supplierLot', e.message, { status: e.status });
+				return setError(form, e.field === 'receivedOn' ? 'receivedOn' : 'supplierLot', e.message, {
+					status: e.status
+				});
 			throw e;
 		}
 		return message(form, { kind: 'ok', text: `Lot ${form.data.supplierLot} recorded.` });

@@ -47,6 +47,8 @@ export const actions: Actions = {
 		} catch (e) {
 			if (e instanceof RecordError) {
 				if (e.field === 'code') return setError(form, 'code', e.message, { status: e.status });
+				if (e.field === 'followUpCode')
+					return setError(form, 'content.followUpCode', e.message, { status: e.status });
 				return message(form, { kind: 'error', text: e.message }, { status: e.status });
 			}
 			throw e;

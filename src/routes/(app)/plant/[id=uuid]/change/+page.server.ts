@@ -56,7 +56,7 @@ export const actions: Actions = {
 			);
 		} catch (e) {
 			if (e instanceof RecordError) {
-				if (e.field === 'reason' || e.field === 'areaId')
+				if (e.status !== 409 && (e.field === 'reason' || e.field === 'areaId'))
 					return setError(form, e.field, e.message, { status: e.status });
 				return message(form, { kind: 'error', text: e.message }, { status: e.status });
 			}

@@ -1,5 +1,5 @@
 import { error, fail, redirect } from '@sveltejs/kit';
-import { message, superValidate } from 'sveltekit-superforms';
+import { message, setError, superValidate } from 'sveltekit-superforms';
 import { zod4 } from 'sveltekit-superforms/adapters';
 import { procedureFormSchema } from '$lib/schemas/procedure';
 import { requireRole } from '$lib/server/auth/guard';
@@ -45,6 +45,8 @@ export const actions: Actions = {
 				event.getClientAddress()
 			);
 		} catch (e) {
+			if (e instanceof RecordError && e.field === 'followUpCode')
+				return setError(form, 'content.followUpCode', e.message, { status: e.status });
 			if (e instanceof RecordError)
 				return message(form, { kind: 'error', text: e.message }, { status: e.status });
 			throw e;
