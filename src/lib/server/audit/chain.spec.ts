@@ -135,3 +135,67 @@ describe('scripts/verify-export.mjs canonicalises like the canonicalize package 
 		expect(() => canonical({ a: '\ud800' })).toThrow(/surrogate/);
 	});
 });
+
+describe('canonicalText writes what canonicalize writes (RFC 8785 via the canonicalize package)', () => {
+	it('for events with nested values, unicode names and every field type', async () => {
+		const { default: canonicalize } = await import('canonicalize');
+		const samples: ChainFields[] = [
+			{
+				seq: 1,
+				at: '2026-12-01T10:00:00.000Z',
+				actor_kind: 'person',
+				actor_id: '2b0c7a4e-1d2f-4a51-9b1e-0c2f3e4d5a6b',
+				actor_name: 'Zoë Ångström "quoted" \\ back\nline',
+				actor_roles: ['technician', 'quality'],
+				action: 'step.perform',
+				entity_type: 'step',
+				entity_id: 'wo-1/3',
+				new_values: {
+					b: 1,
+					a: [1.5, 'x', null, true],
+					é: { z: 0, '\u20ac': -0.000001 },
+					'1': 1e21
+				},
+				previous_values: null,
+				reason: null,
+				client_address: '198.51.100.7'
+			},
+			{
+				seq: 9007199254740991,
+				at: '1999-12-31T23:59:59.999Z',
+				actor_kind: 'system',
+				actor_id: null,
+				actor_name: 'system: PM scheduler',
+				actor_roles: [],
+				action: 'x',
+				entity_type: 'y',
+				entity_id: null,
+				new_values: {},
+				previous_values: { '\ud83d\ude00': 'emoji key', '': '' },
+				reason: 'Typing error at entry',
+				client_address: null
+			}
+		];
+		for (const fields of samples) expect(canonicalText(fields)).toBe(canonicalize(fields));
+	});
+	it('refuses a lone surrogate and non-finite numbers anywhere', () => {
+		const base: ChainFields = {
+			seq: 1,
+			at: '2026-12-01T10:00:00.000Z',
+			actor_kind: 'person',
+			actor_id: null,
+			actor_name: 'a',
+			actor_roles: [],
+			action: 'a',
+			entity_type: 'e',
+			entity_id: null,
+			new_values: null,
+			previous_values: null,
+			reason: null,
+			client_address: null
+		};
+		expect(() => canonicalText({ ...base, reason: 'x\ud800' })).toThrow();
+		expect(() => canonicalText({ ...base, new_values: { v: Number.NaN } })).toThrow();
+		expect(() => canonicalText({ ...base, seq: Number.POSITIVE_INFINITY })).toThrow();
+	});
+});

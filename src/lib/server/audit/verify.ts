@@ -10,7 +10,7 @@ export type Verification = {
 };
 
 const columns = (sql: Sql) => sql`
-	seq::int8 as seq, at, actor_kind, actor_id, actor_name, actor_roles, action, entity_type, entity_id,
+	seq::int8 as seq, to_char(at at time zone 'UTC', 'YYYY-MM-DD"T"HH24:MI:SS.MS"Z"') as at, actor_kind, actor_id, actor_name, actor_roles, action, entity_type, entity_id,
 	new_values, previous_values, reason, client_address,
 	encode(prev_hash, 'hex') as prev_hash, encode(hash, 'hex') as hash`;
 
