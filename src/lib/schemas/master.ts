@@ -31,6 +31,7 @@ const code = (label: string, example: string) =>
 		.string({ error: `Enter the ${label}.` })
 		.trim()
 		.toUpperCase()
+		.min(1, { error: `Enter the ${label}.`, abort: true })
 		.regex(/^[A-Z0-9][A-Z0-9./-]{1,39}$/, `Use letters, digits and - . / only, like ${example}.`);
 
 export const instrumentKinds = [
