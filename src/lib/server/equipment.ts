@@ -1,4 +1,3 @@
-import canonicalize from 'canonicalize';
 import { and, asc, desc, eq, sql } from 'drizzle-orm';
 import { randomUUID } from 'node:crypto';
 import {
@@ -26,6 +25,8 @@ import {
 	isUniqueViolation,
 	mustHold,
 	needReason,
+	nextVersion,
+	oneAtATime,
 	RecordError,
 	type Recorder
 } from './records';
@@ -286,8 +287,8 @@ export async function changeEquipment(
 	const attributes = checkAttributes(details);
 	const [identity] = await db().select().from(equipment).where(eq(equipment.id, id));
 	if (!identity) throw new RecordError('No such equipment.', undefined, 404);
-	try {
-		return await db().transaction(async (tx) => {
+	return oneAtATime('equipment_versions_number', () =>
+		db().transaction(async (tx) => {
 			await areaOfSite(tx, details.areaId, identity.siteId);
 			const [latest] = await tx
 				.select()
@@ -295,36 +296,23 @@ export async function changeEquipment(
 				.where(eq(equipmentVersions.equipmentId, id))
 				.orderBy(desc(equipmentVersions.version))
 				.limit(1);
-			if (!latest || latest.version !== fromVersion)
-				throw new RecordError(
-					`Someone saved version ${latest?.version} meanwhile: reload the page and make the change again.`,
-					'reason',
-					409
-				);
-			const next = {
-				areaId: details.areaId,
-				equipmentClass: details.equipmentClass,
-				description: details.description,
-				gmpCritical: details.gmpCritical,
-				attributes
-			};
-			const before = {
-				areaId: latest.areaId,
-				equipmentClass: latest.equipmentClass,
-				description: latest.description,
-				gmpCritical: latest.gmpCritical,
-				attributes: latest.attributes
-			};
-			// jsonb does not keep key order: compare canonical forms (RFC 8785).
-			if (canonicalize(next) === canonicalize(before))
-				throw new RecordError('Nothing was changed: there is no new version to save.', 'reason');
-			const version = latest.version + 1;
-			const rec = await appendRecordEvent(tx, by, {
+			const pick = (v: Omit<EquipmentDetails, 'tag'>) => ({
+				areaId: v.areaId,
+				equipmentClass: v.equipmentClass,
+				description: v.description,
+				gmpCritical: v.gmpCritical,
+				attributes: v.attributes
+			});
+			const next = pick({ ...details, attributes });
+			const { version, rec } = await nextVersion(tx, by, {
+				latest,
+				fromVersion,
+				what: 'equipment',
+				before: latest ? pick(latest as Omit<EquipmentDetails, 'tag'>) : {},
+				next,
 				action: 'equipment.change',
 				entityType: 'equipment',
 				entityId: id,
-				newValues: { version, ...next },
-				previousValues: { version: latest.version, ...before },
 				reason,
 				clientAddress
 			});
@@ -332,16 +320,8 @@ export async function changeEquipment(
 				.insert(equipmentVersions)
 				.values({ id: randomUUID(), equipmentId: id, version, ...next, reason, ...rec });
 			return version;
-		});
-	} catch (e) {
-		if (isUniqueViolation(e, 'equipment_versions_number'))
-			throw new RecordError(
-				'Someone saved a new version at the same moment: reload the page and make the change again.',
-				'reason',
-				409
-			);
-		throw e;
-	}
+		})
+	);
 }
 
 /**

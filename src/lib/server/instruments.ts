@@ -10,6 +10,8 @@ import {
 	isUniqueViolation,
 	mustHold,
 	needReason,
+	nextVersion,
+	oneAtATime,
 	notInFuture,
 	RecordError,
 	type Recorder
@@ -166,48 +168,33 @@ export async function changeInstrument(
 ) {
 	await mustHold(by, ['planner'], 'change reference instruments');
 	needReason(reason);
-	try {
-		return await db().transaction(async (tx) => {
+	return oneAtATime('instrument_versions_number', () =>
+		db().transaction(async (tx) => {
 			const [latest] = await tx
 				.select()
 				.from(instrumentVersions)
 				.where(eq(instrumentVersions.instrumentId, id))
 				.orderBy(desc(instrumentVersions.version))
 				.limit(1);
-			if (!latest) throw new RecordError('No such instrument.', undefined, 404);
-			if (latest.version !== fromVersion)
-				throw new RecordError(
-					`Someone saved version ${latest.version} meanwhile: reload the page and make the change again.`,
-					'reason',
-					409
-				);
-			const before = {
-				kind: latest.kind,
-				description: latest.description,
-				rangeMin: latest.rangeMin,
-				rangeMax: latest.rangeMax,
-				unit: latest.unit,
-				uncertaintyU95: latest.uncertaintyU95,
-				retired: latest.retired
-			};
-			const next = {
-				kind: details.kind,
-				description: details.description,
-				rangeMin: details.rangeMin,
-				rangeMax: details.rangeMax,
-				unit: details.unit,
-				uncertaintyU95: details.uncertaintyU95,
-				retired: details.retired
-			};
-			if (JSON.stringify(before) === JSON.stringify(next))
-				throw new RecordError('Nothing was changed: there is no new version to save.', 'reason');
-			const version = latest.version + 1;
-			const rec = await appendRecordEvent(tx, by, {
+			const pick = (v: Details) => ({
+				kind: v.kind,
+				description: v.description,
+				rangeMin: v.rangeMin,
+				rangeMax: v.rangeMax,
+				unit: v.unit,
+				uncertaintyU95: v.uncertaintyU95,
+				retired: v.retired
+			});
+			const next = pick(details);
+			const { version, rec } = await nextVersion(tx, by, {
+				latest,
+				fromVersion,
+				what: 'instrument',
+				before: latest ? pick(latest) : {},
+				next,
 				action: 'instrument.change',
 				entityType: 'instrument',
 				entityId: id,
-				newValues: { version, ...next },
-				previousValues: { version: latest.version, ...before },
 				reason,
 				clientAddress
 			});
@@ -215,16 +202,8 @@ export async function changeInstrument(
 				.insert(instrumentVersions)
 				.values({ id: randomUUID(), instrumentId: id, version, ...next, reason, ...rec });
 			return version;
-		});
-	} catch (e) {
-		if (isUniqueViolation(e, 'instrument_versions_number'))
-			throw new RecordError(
-				'Someone saved a new version at the same moment: reload and retry.',
-				'reason',
-				409
-			);
-		throw e;
-	}
+		})
+	);
 }
 
 /** A calibration record: appended, never changed; a later record supersedes it. */

@@ -9,6 +9,8 @@ import {
 	isUniqueViolation,
 	mustHold,
 	needReason,
+	nextVersion,
+	oneAtATime,
 	notInFuture,
 	RecordError,
 	type Recorder
@@ -119,32 +121,25 @@ export async function changePart(
 ) {
 	await mustHold(by, ['planner'], 'change parts');
 	needReason(reason);
-	try {
-		return await db().transaction(async (tx) => {
+	return oneAtATime('part_versions_number', () =>
+		db().transaction(async (tx) => {
 			const [latest] = await tx
 				.select()
 				.from(partVersions)
 				.where(eq(partVersions.partId, id))
 				.orderBy(desc(partVersions.version))
 				.limit(1);
-			if (!latest) throw new RecordError('No such part.', undefined, 404);
-			if (latest.version !== fromVersion)
-				throw new RecordError(
-					`Someone saved version ${latest.version} meanwhile: reload the page and make the change again.`,
-					'reason',
-					409
-				);
-			const before = { description: latest.description, materialCode: latest.materialCode };
-			const next = { description: details.description, materialCode: details.materialCode };
-			if (JSON.stringify(before) === JSON.stringify(next))
-				throw new RecordError('Nothing was changed: there is no new version to save.', 'reason');
-			const version = latest.version + 1;
-			const rec = await appendRecordEvent(tx, by, {
+			const pick = (v: Details) => ({ description: v.description, materialCode: v.materialCode });
+			const next = pick(details);
+			const { version, rec } = await nextVersion(tx, by, {
+				latest,
+				fromVersion,
+				what: 'part',
+				before: latest ? pick(latest) : {},
+				next,
 				action: 'part.change',
 				entityType: 'part',
 				entityId: id,
-				newValues: { version, ...next },
-				previousValues: { version: latest.version, ...before },
 				reason,
 				clientAddress
 			});
@@ -152,16 +147,8 @@ export async function changePart(
 				.insert(partVersions)
 				.values({ id: randomUUID(), partId: id, version, ...next, reason, ...rec });
 			return version;
-		});
-	} catch (e) {
-		if (isUniqueViolation(e, 'part_versions_number'))
-			throw new RecordError(
-				'Someone saved a new version at the same moment: reload and retry.',
-				'reason',
-				409
-			);
-		throw e;
-	}
+		})
+	);
 }
 
 export async function receiveLot(

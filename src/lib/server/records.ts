@@ -1,3 +1,4 @@
+import canonicalize from 'canonicalize';
 import type { Role } from '$lib/roles';
 import { recordEvent, type Actor, type AuditInput } from './audit/index';
 import { siteToday } from '$lib/fitness';
@@ -101,4 +102,66 @@ export function isUniqueViolation(e: unknown, constraint?: string) {
 export function needReason(reason: string) {
 	if (!reason || !reason.trim())
 		throw new RecordError('Give a reason: it is kept in the audit trail.', 'reason', 422);
+}
+
+/**
+ * What every change of versioned master data does, inside the caller's transaction: the version
+ * the person changed (`fromVersion`) is still the newest, something did change, and the audit
+ * event carries the new and previous values with the reason. Returns the new version number and
+ * the columns that tie the new version row to its event.
+ */
+export async function nextVersion(
+	tx: Parameters<typeof recordEvent>[0],
+	by: Recorder,
+	change: {
+		latest: { version: number } | undefined;
+		fromVersion: number;
+		/** "equipment", "instrument", "part": for the messages. */
+		what: string;
+		before: Record<string, unknown>;
+		next: Record<string, unknown>;
+		action: string;
+		entityType: string;
+		entityId: string;
+		reason: string;
+		clientAddress: string | null;
+	}
+) {
+	const { latest } = change;
+	if (!latest) throw new RecordError(`No such ${change.what}.`, undefined, 404);
+	if (latest.version !== change.fromVersion)
+		throw new RecordError(
+			`Someone saved version ${latest.version} meanwhile: reload the page and make the change again.`,
+			'reason',
+			409
+		);
+	// jsonb does not keep key order: compare canonical forms (RFC 8785).
+	if (canonicalize(change.next) === canonicalize(change.before))
+		throw new RecordError('Nothing was changed: there is no new version to save.', 'reason');
+	const version = latest.version + 1;
+	const rec = await appendRecordEvent(tx, by, {
+		action: change.action,
+		entityType: change.entityType,
+		entityId: change.entityId,
+		newValues: { version, ...change.next },
+		previousValues: { version: latest.version, ...change.before },
+		reason: change.reason,
+		clientAddress: change.clientAddress
+	});
+	return { version, rec };
+}
+
+/** Runs a change; two saves of the same new version number at once: the second gets 409. */
+export async function oneAtATime<T>(versionConstraint: string, change: () => Promise<T>) {
+	try {
+		return await change();
+	} catch (e) {
+		if (isUniqueViolation(e, versionConstraint))
+			throw new RecordError(
+				'Someone saved a new version at the same moment: reload the page and make the change again.',
+				'reason',
+				409
+			);
+		throw e;
+	}
 }
