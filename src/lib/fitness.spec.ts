@@ -66,6 +66,11 @@ describe('qualifiedOn (AC4)', () => {
 		expect(qualifiedOn(records, '2026-01-01')).toBe(false);
 		expect(qualifiedOn(records, '2024-12-31')).toBe(false);
 	});
+	it('stops counting from the day a record is withdrawn, and not before', () => {
+		const withdrawn = [{ ...records[0]!, withdrawnOn: '2025-06-01' }];
+		expect(qualifiedOn(withdrawn, '2025-05-31')).toBe(true);
+		expect(qualifiedOn(withdrawn, '2025-06-01')).toBe(false);
+	});
 	it('is renewed by a later record', () => {
 		expect(
 			qualifiedOn([...records, { trainedOn: '2026-01-05', expiresOn: '2026-12-31' }], '2026-06-01')

@@ -49,11 +49,15 @@ export const fitnessWords: Record<Exclude<InstrumentFitness, { usable: true }>['
 	retired: 'Withdrawn from use'
 };
 
-export type TrainingFacts = { trainedOn: string; expiresOn: string };
+export type TrainingFacts = { trainedOn: string; expiresOn: string; withdrawnOn?: string | null };
 
-/** Qualified on `day` if a training record of the procedure covers it (trained on ≤ day ≤ expires on). */
+/** Whether one training record covers `day`: trained on ≤ day ≤ expires on, and not withdrawn by then. */
+export const covers = (r: TrainingFacts, day: string) =>
+	r.trainedOn <= day && day <= r.expiresOn && !(r.withdrawnOn && r.withdrawnOn <= day);
+
+/** Qualified on `day` if a training record of the procedure covers it. */
 export function qualifiedOn(records: readonly TrainingFacts[], day: string): boolean {
-	return records.some((r) => r.trainedOn <= day && day <= r.expiresOn);
+	return records.some((r) => covers(r, day));
 }
 
 /** The day `days` after an ISO date (calendar arithmetic in UTC, no time of day involved). */

@@ -247,6 +247,25 @@ test('instruments show what is due and what cannot be used; parts and qualificat
 	await expect(page.getByText('Expired')).toBeVisible();
 	await shot(page, 'part-page');
 
+	// Record a training, then withdraw it with a reason.
+	await page.goto('/qualifications');
+	await page.getByLabel('Person').selectOption({ label: 'Tomas Verhoek (tech1)' });
+	await page
+		.getByLabel('Procedure', { exact: true })
+		.selectOption({ label: 'MP-PU-01 · Mechanical seal inspection, sanitary centrifugal pump' });
+	await page.getByLabel('Trainer').fill('Demo trainer');
+	await page.getByRole('button', { name: 'Record the training' }).click();
+	await expect(page.getByText('Training recorded.')).toBeVisible();
+	const row = page
+		.getByRole('table', { name: 'Qualifications' })
+		.getByRole('row', { name: /Tomas Verhoek.*MP-PU-01/ });
+	await expect(row).toContainText('Qualified');
+	await row.getByText('Withdraw', { exact: true }).click();
+	await row.getByLabel(/Reason to withdraw/).fill('Entered on the wrong record');
+	await row.getByRole('button', { name: 'Withdraw the training record' }).click();
+	await expect(row).toContainText('Withdrawn');
+	await shot(page, 'qualification-withdrawn');
+
 	await page.goto('/qualifications?show=lapsed');
 	await expect(page.getByRole('table', { name: 'Qualifications' })).toContainText('MP-PU-01');
 	await expect(page.getByRole('table', { name: 'Qualifications' })).toContainText('Lapsed');

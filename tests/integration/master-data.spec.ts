@@ -253,7 +253,7 @@ describe('equipment master data is versioned (MR2, AT2)', () => {
 			/append-only/
 		);
 		await expect(t.ownerSql`delete from calibrations`).rejects.toThrow(/append-only/);
-		await expect(t.ownerSql`truncate qualifications`).rejects.toThrow(/append-only/);
+		await expect(t.ownerSql`truncate qualification_withdrawals`).rejects.toThrow(/append-only/);
 	});
 });
 
@@ -723,6 +723,59 @@ describe('refusals found in review', () => {
 					)
 				).field
 			).toBe('amount');
+	});
+});
+
+describe('withdrawing a training record', () => {
+	it('stops it qualifying from today, keeps it visible, and is audited with the reason', async () => {
+		const ts = (await procedures.findProcedureByCode('MP-TS-01'))!;
+		await qualifications.recordQualification(personOf(people.planner!), {
+			accountId: people.tech1!.id,
+			procedureId: ts,
+			trainedOn: addDays(today, -10),
+			expiresOn: addDays(today, 300),
+			trainer: 'T',
+			note: ''
+		});
+		expect(await qualifications.isQualified(people.tech1!.id, ts, today)).toBe(true);
+		const row = (await qualifications.listQualifications(today, people.tech1!.id)).find(
+			(q) => q.procedureId === ts
+		)!;
+		expect(
+			(await refusal(qualifications.withdrawQualification(personOf(people.quality!), row.id, '  ')))
+				.status
+		).toBe(422);
+		expect(
+			(await refusal(qualifications.withdrawQualification(personOf(people.tech1!), row.id, 'Mine')))
+				.status
+		).toBe(403);
+		await qualifications.withdrawQualification(
+			personOf(people.quality!),
+			row.id,
+			'Entered on the wrong record',
+			ip
+		);
+		expect(await qualifications.isQualified(people.tech1!.id, ts, today)).toBe(false);
+		expect(await qualifications.isQualified(people.tech1!.id, ts, addDays(today, -1))).toBe(true);
+		const after = (await qualifications.listQualifications(today, people.tech1!.id)).find(
+			(q) => q.procedureId === ts
+		)!;
+		expect(after).toMatchObject({
+			qualified: false,
+			withdrawnOn: today,
+			withdrawalReason: 'Entered on the wrong record'
+		});
+		expect(
+			(
+				await refusal(
+					qualifications.withdrawQualification(personOf(people.quality!), row.id, 'Again')
+				)
+			).status
+		).toBe(409);
+		const [event] =
+			await t.ownerSql`select reason from audit_event where action = 'qualification.withdraw'`;
+		expect(event!.reason).toBe('Entered on the wrong record');
+		await expect(t.ownerSql`delete from qualification_withdrawals`).rejects.toThrow(/append-only/);
 	});
 });
 

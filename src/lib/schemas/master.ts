@@ -166,3 +166,8 @@ export const procedureChangeReasons = [
 	'New equipment or part in use',
 	'Wording made clearer'
 ] as const;
+
+export const withdrawQualificationSchema = z.object({
+	qualificationId: z.uuid({ error: 'Choose the training record.' }),
+	reason: reasonSchema
+});

@@ -1,13 +1,16 @@
 import { and, asc, desc, eq } from 'drizzle-orm';
 import { randomUUID } from 'node:crypto';
-import { addDays, qualifiedOn } from '$lib/fitness';
+import { addDays, covers, qualifiedOn, siteToday } from '$lib/fitness';
 import type { z } from 'zod';
 import type { qualificationSchema } from '$lib/schemas/master';
 import { db } from './db/index';
-import { accounts, procedures, qualifications } from './db/schema/index';
+import { accounts, procedures, qualifications, qualificationWithdrawals } from './db/schema/index';
+import { currentSite } from './plant';
 import {
 	appendRecordEvent,
+	isUniqueViolation,
 	mustHold,
+	needReason,
 	notInFuture,
 	RecordError,
 	refuse,
@@ -22,8 +25,16 @@ export type Qualification = z.infer<typeof qualificationSchema>;
 
 export async function isQualified(accountId: string, procedureId: string, day: string) {
 	const rows = await db()
-		.select({ trainedOn: qualifications.trainedOn, expiresOn: qualifications.expiresOn })
+		.select({
+			trainedOn: qualifications.trainedOn,
+			expiresOn: qualifications.expiresOn,
+			withdrawnOn: qualificationWithdrawals.effectiveOn
+		})
 		.from(qualifications)
+		.leftJoin(
+			qualificationWithdrawals,
+			eq(qualificationWithdrawals.qualificationId, qualifications.id)
+		)
 		.where(
 			and(eq(qualifications.accountId, accountId), eq(qualifications.procedureId, procedureId))
 		);
@@ -45,9 +56,15 @@ export async function listQualifications(day: string, accountId?: string) {
 			trainer: qualifications.trainer,
 			note: qualifications.note,
 			recordedByName: qualifications.recordedByName,
-			recordedAt: qualifications.recordedAt
+			recordedAt: qualifications.recordedAt,
+			withdrawnOn: qualificationWithdrawals.effectiveOn,
+			withdrawalReason: qualificationWithdrawals.reason
 		})
 		.from(qualifications)
+		.leftJoin(
+			qualificationWithdrawals,
+			eq(qualificationWithdrawals.qualificationId, qualifications.id)
+		)
 		.innerJoin(accounts, eq(accounts.id, qualifications.accountId))
 		.innerJoin(procedures, eq(procedures.id, qualifications.procedureId))
 		.where(accountId ? eq(qualifications.accountId, accountId) : undefined)
@@ -61,7 +78,7 @@ export async function listQualifications(day: string, accountId?: string) {
 	}
 	return [...byPair.values()].map((records) => {
 		// The record in force today decides; else the one that reaches furthest.
-		const latest = records.find((r) => r.trainedOn <= day && day <= r.expiresOn) ?? records[0]!;
+		const latest = records.find((r) => covers(r, day)) ?? records[0]!;
 		const qualified = qualifiedOn(records, day);
 		return {
 			...latest,
@@ -112,4 +129,45 @@ export async function recordQualification(
 		});
 		await tx.insert(qualifications).values({ id: randomUUID(), ...input, ...rec });
 	});
+}
+
+/**
+ * Withdraws a training record with a reason (entered by mistake, or competence in doubt): from
+ * today at the site it no longer qualifies; what was signed before stays as it was. The record
+ * stays visible, marked withdrawn.
+ */
+export async function withdrawQualification(
+	by: Recorder,
+	qualificationId: string,
+	reason: string,
+	clientAddress: string | null = null
+) {
+	await mustHold(by, ['planner', 'quality'], 'withdraw training records');
+	needReason(reason);
+	const site = await currentSite();
+	const today = siteToday(site!.timeZone);
+	try {
+		await db().transaction(async (tx) => {
+			const [record] = await tx
+				.select({ accountId: qualifications.accountId, procedureId: qualifications.procedureId })
+				.from(qualifications)
+				.where(eq(qualifications.id, qualificationId));
+			if (!record) throw new RecordError('No such training record.', undefined, 404);
+			const rec = await appendRecordEvent(tx, by, {
+				action: 'qualification.withdraw',
+				entityType: 'account',
+				entityId: record.accountId,
+				newValues: { qualificationId, procedureId: record.procedureId, effectiveOn: today },
+				reason,
+				clientAddress
+			});
+			await tx
+				.insert(qualificationWithdrawals)
+				.values({ id: randomUUID(), qualificationId, effectiveOn: today, reason, ...rec });
+		});
+	} catch (e) {
+		if (isUniqueViolation(e))
+			throw new RecordError('This training record is already withdrawn.', 'reason', 409);
+		throw e;
+	}
 }

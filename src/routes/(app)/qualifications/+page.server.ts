@@ -2,9 +2,10 @@ import { fail } from '@sveltejs/kit';
 import { message, setError, superValidate } from 'sveltekit-superforms';
 import { zod4 } from 'sveltekit-superforms/adapters';
 import { addDays, siteToday } from '$lib/fitness';
-import { qualificationSchema } from '$lib/schemas/master';
+import { qualificationSchema, withdrawQualificationSchema } from '$lib/schemas/master';
 import { listAccounts } from '$lib/server/accounts';
 import { requireRole } from '$lib/server/auth/guard';
+import { refused } from '$lib/server/forms';
 import { currentSite } from '$lib/server/plant';
 import * as procedures from '$lib/server/procedures';
 import * as qualifications from '$lib/server/qualifications';
@@ -31,6 +32,8 @@ export const load: PageServerLoad = async (event) => {
 		seesAll,
 		mayRecord,
 		qualifications: filtered.map((r) => ({
+			qualificationId: r.id,
+			withdrawnOn: r.withdrawnOn,
 			accountId: r.accountId,
 			personName: r.personName,
 			procedureId: r.procedureId,
@@ -53,6 +56,7 @@ export const load: PageServerLoad = async (event) => {
 					name: `${p.code} · ${p.title}`
 				}))
 			: [],
+		withdrawForm: await superValidate(zod4(withdrawQualificationSchema)),
 		form: await superValidate(
 			{
 				accountId: '',
@@ -69,7 +73,29 @@ export const load: PageServerLoad = async (event) => {
 };
 
 export const actions: Actions = {
-	default: async (event) => {
+	withdraw: async (event) => {
+		const user = await requireRole(event, 'planner', 'quality');
+		const raw = await event.request.formData();
+		const id = String(raw.get('qualificationId') ?? '');
+		const form = await superValidate(raw, zod4(withdrawQualificationSchema), {
+			id: `withdraw-${id}`
+		});
+		if (!form.valid) return refused(form);
+		try {
+			await qualifications.withdrawQualification(
+				personOf(user),
+				form.data.qualificationId,
+				form.data.reason,
+				event.getClientAddress()
+			);
+		} catch (e) {
+			if (e instanceof RecordError)
+				return setError(form, 'reason', e.message, { status: e.status });
+			throw e;
+		}
+		return message(form, { kind: 'ok', text: 'Withdrawn: it no longer qualifies from today.' });
+	},
+	record: async (event) => {
 		const user = await requireRole(event, 'planner', 'quality');
 		const form = await superValidate(event.request, zod4(qualificationSchema));
 		if (!form.valid) return fail(400, { form });

@@ -311,3 +311,15 @@ export const qualifications = pgTable(
 		check('qualifications_dates', sql`${t.trainedOn} <= ${t.expiresOn}`)
 	]
 );
+
+/** A training record withdrawn (entered by mistake, or the person's competence is in doubt): it stops counting from `effective_on`. */
+export const qualificationWithdrawals = pgTable('qualification_withdrawals', {
+	id: uuid('id').primaryKey(),
+	qualificationId: uuid('qualification_id')
+		.notNull()
+		.unique()
+		.references(() => qualifications.id),
+	effectiveOn: date('effective_on').notNull(),
+	reason: text('reason').notNull(),
+	...recorded()
+});
