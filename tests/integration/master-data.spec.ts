@@ -460,6 +460,10 @@ describe('reference instruments (MR3)', () => {
 			usable: false,
 			why: 'retired'
 		});
+		// A withdrawal does not reach back: the day before it, inside its calibration, it was usable.
+		expect(await instruments.instrumentFitness(i.id, addDays(today, -1))).toMatchObject({
+			usable: true
+		});
 	});
 });
 

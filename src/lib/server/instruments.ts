@@ -1,6 +1,7 @@
 import { asc, desc, eq, inArray } from 'drizzle-orm';
 import { randomUUID } from 'node:crypto';
-import { addDays, instrumentFitnessOn, type CalibrationFacts } from '$lib/fitness';
+import { addDays, instrumentFitnessOn, siteToday, type CalibrationFacts } from '$lib/fitness';
+import { currentSite } from './plant';
 import type { z } from 'zod';
 import type { calibrationSchema, registerInstrumentSchema } from '$lib/schemas/master';
 import { db } from './db/index';
@@ -31,8 +32,25 @@ const factsOf = (c: typeof calibrations.$inferSelect): CalibrationFacts => ({
 	seq: c.auditSeq
 });
 
+const siteZone = async () => (await currentSite())?.timeZone ?? 'UTC';
+
+/**
+ * Whether the instrument was withdrawn on `day`: the version in force that day decides (the
+ * newest recorded on or before it, in site dates), so a withdrawal does not reach back to work
+ * done before it. Versions come newest first.
+ */
+function retiredOn(
+	versions: { retired: boolean; recordedAt: Date }[],
+	day: string,
+	timeZone: string
+): boolean {
+	const inForce = versions.find((v) => siteToday(timeZone, v.recordedAt) <= day) ?? versions.at(-1);
+	return inForce?.retired ?? false;
+}
+
 /** Every instrument of a site at its newest version, with its fitness on `day` and what falls due within 30 days. */
 export async function listInstruments(siteId: string, day: string) {
+	const timeZone = await siteZone();
 	const ids = await db()
 		.select({ id: instruments.id, code: instruments.code })
 		.from(instruments)
@@ -64,7 +82,11 @@ export async function listInstruments(siteId: string, day: string) {
 		const fitness = instrumentFitnessOn(
 			cals.filter((c) => c.instrumentId === id).map(factsOf),
 			day,
-			v.retired
+			retiredOn(
+				versions.filter((x) => x.instrumentId === id),
+				day,
+				timeZone
+			)
 		);
 		const dueOn = fitness.calibration?.dueOn ?? null;
 		return {
@@ -85,6 +107,7 @@ export async function listInstruments(siteId: string, day: string) {
 }
 
 export async function getInstrument(id: string, day: string) {
+	const timeZone = await siteZone();
 	const [identity] = await db().select().from(instruments).where(eq(instruments.id, id));
 	if (!identity) return undefined;
 	const versions = await db()
@@ -104,7 +127,7 @@ export async function getInstrument(id: string, day: string) {
 		current,
 		versions,
 		calibrations: cals,
-		fitness: instrumentFitnessOn(cals.map(factsOf), day, current.retired)
+		fitness: instrumentFitnessOn(cals.map(factsOf), day, retiredOn(versions, day, timeZone))
 	};
 }
 
