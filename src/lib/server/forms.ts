@@ -1,4 +1,9 @@
-import { fail } from '@sveltejs/kit';
+import { fail, type RequestEvent } from '@sveltejs/kit';
+import { message, setError, superValidate } from 'sveltekit-superforms';
+import { zod4 } from 'sveltekit-superforms/adapters';
+import type { z, ZodNumber, ZodObject, ZodType } from 'zod';
+import { requireRole } from './auth/guard';
+import { personOf, RecordError, type Recorder } from './records';
 
 /**
  * The answer to a form that did not validate: 422 when the reason for a change is missing or
@@ -7,4 +12,36 @@ import { fail } from '@sveltejs/kit';
 export function refused<F extends { errors: object }>(form: F) {
 	const errors = form.errors as { reason?: unknown };
 	return fail(errors.reason ? 422 : 400, { form });
+}
+
+/**
+ * The form action that saves a new version of versioned master data (instruments, parts): a
+ * Planner, the validated form, the module's change with the version the person saw and the
+ * reason; a refusal beside the reason; on success the form moves on to the new version.
+ */
+export async function newVersionAction<
+	S extends ZodObject<{ fromVersion: ZodNumber; reason: ZodType<string> }>
+>(
+	event: RequestEvent,
+	schema: S,
+	change: (
+		by: Recorder,
+		fromVersion: number,
+		details: Omit<z.infer<S>, 'fromVersion' | 'reason'>,
+		reason: string
+	) => Promise<unknown>
+) {
+	const user = await requireRole(event, 'planner');
+	const form = await superValidate(event.request, zod4(schema), { id: 'change' });
+	if (!form.valid) return refused(form);
+	const { fromVersion, reason, ...details } = form.data as z.infer<S>;
+	try {
+		await change(personOf(user), fromVersion, details, reason);
+	} catch (e) {
+		if (e instanceof RecordError)
+			return setError(form, 'reason' as never, e.message, { status: e.status });
+		throw e;
+	}
+	Object.assign(form.data, { reason: '', fromVersion: fromVersion + 1 });
+	return message(form, { kind: 'ok', text: `Saved as version ${fromVersion + 1}.` });
 }

@@ -1,10 +1,10 @@
 import { error } from '@sveltejs/kit';
-import { message, setError, superValidate } from 'sveltekit-superforms';
+import { message, superValidate } from 'sveltekit-superforms';
 import { zod4 } from 'sveltekit-superforms/adapters';
 import { siteToday } from '$lib/fitness';
 import { calibrationSchema, changeInstrumentSchema } from '$lib/schemas/master';
 import { requireRole } from '$lib/server/auth/guard';
-import { refused } from '$lib/server/forms';
+import { newVersionAction, refused } from '$lib/server/forms';
 import * as instruments from '$lib/server/instruments';
 import { currentSite } from '$lib/server/plant';
 import { personOf, RecordError } from '$lib/server/records';
@@ -70,27 +70,15 @@ export const actions: Actions = {
 		}
 		return message(form, { kind: 'ok', text: 'Calibration recorded.' });
 	},
-	change: async (event) => {
-		const user = await requireRole(event, 'planner');
-		const form = await superValidate(event.request, zod4(changeInstrumentSchema), { id: 'change' });
-		if (!form.valid) return refused(form);
-		const { fromVersion, reason, ...details } = form.data;
-		try {
-			await instruments.changeInstrument(
-				personOf(user),
+	change: (event) =>
+		newVersionAction(event, changeInstrumentSchema, (by, fromVersion, details, reason) =>
+			instruments.changeInstrument(
+				by,
 				event.params.id,
 				fromVersion,
 				details,
 				reason,
 				event.getClientAddress()
-			);
-		} catch (e) {
-			if (e instanceof RecordError)
-				return setError(form, 'reason', e.message, { status: e.status });
-			throw e;
-		}
-		form.data.reason = '';
-		form.data.fromVersion = fromVersion + 1;
-		return message(form, { kind: 'ok', text: `Saved as version ${fromVersion + 1}.` });
-	}
+			)
+		)
 };

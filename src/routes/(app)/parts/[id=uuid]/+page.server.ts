@@ -4,7 +4,7 @@ import { zod4 } from 'sveltekit-superforms/adapters';
 import { siteToday } from '$lib/fitness';
 import { changePartSchema, lotSchema } from '$lib/schemas/master';
 import { requireRole } from '$lib/server/auth/guard';
-import { refused } from '$lib/server/forms';
+import { newVersionAction, refused } from '$lib/server/forms';
 import * as parts from '$lib/server/parts';
 import { currentSite } from '$lib/server/plant';
 import { personOf, RecordError } from '$lib/server/records';
@@ -65,27 +65,8 @@ export const actions: Actions = {
 		}
 		return message(form, { kind: 'ok', text: `Lot ${form.data.supplierLot} recorded.` });
 	},
-	change: async (event) => {
-		const user = await requireRole(event, 'planner');
-		const form = await superValidate(event.request, zod4(changePartSchema), { id: 'change' });
-		if (!form.valid) return refused(form);
-		const { fromVersion, reason, ...details } = form.data;
-		try {
-			await parts.changePart(
-				personOf(user),
-				event.params.id,
-				fromVersion,
-				details,
-				reason,
-				event.getClientAddress()
-			);
-		} catch (e) {
-			if (e instanceof RecordError)
-				return setError(form, 'reason', e.message, { status: e.status });
-			throw e;
-		}
-		form.data.reason = '';
-		form.data.fromVersion = fromVersion + 1;
-		return message(form, { kind: 'ok', text: `Saved as version ${fromVersion + 1}.` });
-	}
+	change: (event) =>
+		newVersionAction(event, changePartSchema, (by, fromVersion, details, reason) =>
+			parts.changePart(by, event.params.id, fromVersion, details, reason, event.getClientAddress())
+		)
 };
