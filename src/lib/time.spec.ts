@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { formatInZone, isTimeZone, offsetInZone } from './time';
+import { formatInZone, fromLocalInput, isTimeZone, localInputValue, offsetInZone } from './time';
 
 // Source for every expected value: the IANA tz database (tzdata), rules "EU" (Europe/Berlin:
 // CET +01:00, CEST +02:00 from the last Sunday of March 01:00 UTC to the last Sunday of October
@@ -48,5 +48,38 @@ describe('isTimeZone', () => {
 		expect(isTimeZone('America/Argentina/Buenos_Aires')).toBe(true);
 		expect(isTimeZone('Mars/Olympus_Mons')).toBe(false);
 		expect(isTimeZone('')).toBe(false);
+	});
+});
+
+// Daylight-saving dates of Europe/Berlin in 2026 (EU rule: last Sunday of March and of October
+// at 01:00 UTC — Directive 2000/84/EC), as the IANA tz data in Node's Intl carries them.
+describe('fromLocalInput / localInputValue', () => {
+	it('reads a wall-clock time in the zone', () => {
+		expect(fromLocalInput('2026-12-01T19:52', 'Europe/Berlin')?.toISOString()).toBe(
+			'2026-12-01T18:52:00.000Z'
+		);
+		expect(fromLocalInput('2026-07-01T12:00', 'Europe/Berlin')?.toISOString()).toBe(
+			'2026-07-01T10:00:00.000Z'
+		);
+		expect(fromLocalInput('2026-12-01T10:00', 'UTC')?.toISOString()).toBe(
+			'2026-12-01T10:00:00.000Z'
+		);
+	});
+	it('takes the earlier instant in the repeated hour and moves past the skipped one', () => {
+		expect(fromLocalInput('2026-10-25T02:30', 'Europe/Berlin')?.toISOString()).toBe(
+			'2026-10-25T00:30:00.000Z'
+		);
+		expect(fromLocalInput('2026-03-29T02:30', 'Europe/Berlin')?.toISOString()).toBe(
+			'2026-03-29T01:30:00.000Z'
+		);
+	});
+	it('refuses what is not a time', () => {
+		for (const bad of ['', 'now', '2026-02-30T10:00', '2026-12-01T24:00', '2026-12-01 10:00'])
+			expect(fromLocalInput(bad, 'Europe/Berlin')).toBeNull();
+	});
+	it('round-trips with localInputValue', () => {
+		const at = new Date('2026-12-01T18:52:00.000Z');
+		expect(localInputValue(at, 'Europe/Berlin')).toBe('2026-12-01T19:52');
+		expect(fromLocalInput(localInputValue(at, 'Europe/Berlin'), 'Europe/Berlin')).toEqual(at);
 	});
 });

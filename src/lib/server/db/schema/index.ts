@@ -4,3 +4,4 @@ export * from './audit';
 export * from './plant';
 export * from './signatures';
 export * from './master';
+export * from './work';

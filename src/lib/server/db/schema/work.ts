@@ -1,0 +1,216 @@
+import { sql } from 'drizzle-orm';
+import {
+	bigint,
+	boolean,
+	check,
+	date,
+	index,
+	integer,
+	jsonb,
+	pgTable,
+	text,
+	timestamp,
+	unique,
+	uuid
+} from 'drizzle-orm/pg-core';
+import type { EntryValue } from '../../../work';
+import { accounts } from './accounts';
+import { equipment, instruments, partLots, procedureVersions } from './master';
+import { sites } from './plant';
+import { signatures } from './signatures';
+
+/**
+ * Work orders (5/10). Append-only like every GMP record (triggers, migration 0011): the work
+ * order's identity, versions of its plan, status transitions, the entries of each step, the
+ * signoffs of each step, deviations and their dispositions. The current state follows from the
+ * rows (src/lib/work.ts); nothing is updated. Each row names its audit event.
+ */
+const recorded = () => ({
+	recordedBy: uuid('recorded_by').references(() => accounts.id),
+	recordedByName: text('recorded_by_name').notNull(),
+	recordedAt: timestamp('recorded_at', { withTimezone: true, precision: 3 }).notNull(),
+	auditSeq: bigint('audit_seq', { mode: 'number' }).notNull()
+});
+
+export const workOrders = pgTable(
+	'work_orders',
+	{
+		id: uuid('id').primaryKey(),
+		siteId: uuid('site_id')
+			.notNull()
+			.references(() => sites.id),
+		/** WO-<year>-<nnnn>, per site and year; never reused. */
+		number: text('number').notNull().unique(),
+		kind: text('kind').notNull(),
+		equipmentId: uuid('equipment_id')
+			.notNull()
+			.references(() => equipment.id),
+		/** The approved procedure version the work follows, pinned at creation (MR1). */
+		procedureVersionId: uuid('procedure_version_id')
+			.notNull()
+			.references(() => procedureVersions.id),
+		/** The work order this one follows up (for example the re-tightening after a diaphragm change). */
+		followsUp: uuid('follows_up'),
+		...recorded()
+	},
+	(t) => [
+		index('work_orders_equipment').on(t.equipmentId),
+		check('work_orders_kind', sql`${t.kind} in ('preventive', 'corrective', 'follow_up')`)
+	]
+);
+
+export const workOrderPlans = pgTable(
+	'work_order_plans',
+	{
+		id: uuid('id').primaryKey(),
+		workOrderId: uuid('work_order_id')
+			.notNull()
+			.references(() => workOrders.id),
+		version: integer('version').notNull(),
+		dueOn: date('due_on').notNull(),
+		priority: text('priority').notNull(),
+		assignees: uuid('assignees').array().notNull(),
+		notes: text('notes').notNull(),
+		reason: text('reason'),
+		...recorded()
+	},
+	(t) => [
+		unique('work_order_plans_number').on(t.workOrderId, t.version),
+		check('work_order_plans_reason', sql`${t.version} = 1 or ${t.reason} is not null`),
+		check('work_order_plans_priority', sql`${t.priority} in ('routine', 'high', 'urgent')`)
+	]
+);
+
+export const workOrderTransitions = pgTable(
+	'work_order_transitions',
+	{
+		id: uuid('id').primaryKey(),
+		workOrderId: uuid('work_order_id')
+			.notNull()
+			.references(() => workOrders.id),
+		kind: text('kind').notNull(),
+		reason: text('reason'),
+		signatureId: uuid('signature_id')
+			.unique()
+			.references(() => signatures.id),
+		...recorded()
+	},
+	(t) => [
+		index('work_order_transitions_order').on(t.workOrderId, t.auditSeq),
+		check(
+			'work_order_transitions_kind',
+			sql`${t.kind} in ('planned', 'started', 'executed', 'trail_reviewed', 'released', 'returned', 'cancelled')`
+		),
+		check(
+			'work_order_transitions_reason',
+			sql`${t.kind} not in ('returned', 'cancelled') or ${t.reason} is not null`
+		),
+		check(
+			'work_order_transitions_signed',
+			sql`${t.kind} not in ('executed', 'trail_reviewed', 'released', 'returned') or ${t.signatureId} is not null`
+		)
+	]
+);
+
+/** One value of one field of one step; a correction is a new entry naming the one it corrects. */
+export const stepEntries = pgTable(
+	'step_entries',
+	{
+		id: uuid('id').primaryKey(),
+		workOrderId: uuid('work_order_id')
+			.notNull()
+			.references(() => workOrders.id),
+		stepKey: text('step_key').notNull(),
+		fieldKey: text('field_key').notNull(),
+		value: jsonb('value').$type<EntryValue>().notNull(),
+		withinLimits: boolean('within_limits'),
+		/** The lot fitted (part-lot fields): traceability from a lot to the equipment. */
+		lotId: uuid('lot_id').references(() => partLots.id),
+		/** The instrument used (instrument fields) and its calibration due date on the day. */
+		instrumentId: uuid('instrument_id').references(() => instruments.id),
+		calibrationDueOn: date('calibration_due_on'),
+		/** When the work was done (DI1); recorded_at is the database's time of the entry. */
+		performedAt: timestamp('performed_at', { withTimezone: true, precision: 3 }).notNull(),
+		lateReason: text('late_reason'),
+		corrects: uuid('corrects').unique(),
+		reason: text('reason'),
+		...recorded()
+	},
+	(t) => [
+		index('step_entries_order').on(t.workOrderId, t.auditSeq),
+		index('step_entries_lot').on(t.lotId),
+		index('step_entries_instrument').on(t.instrumentId),
+		check('step_entries_correction_reason', sql`${t.corrects} is null or ${t.reason} is not null`)
+	]
+);
+
+/** Performed and Verified (each with its signature), or Returned by the verifier with a reason. */
+export const stepSignoffs = pgTable(
+	'step_signoffs',
+	{
+		id: uuid('id').primaryKey(),
+		workOrderId: uuid('work_order_id')
+			.notNull()
+			.references(() => workOrders.id),
+		stepKey: text('step_key').notNull(),
+		kind: text('kind').notNull(),
+		signatureId: uuid('signature_id')
+			.unique()
+			.references(() => signatures.id),
+		reason: text('reason'),
+		...recorded()
+	},
+	(t) => [
+		index('step_signoffs_order').on(t.workOrderId, t.auditSeq),
+		check('step_signoffs_kind', sql`${t.kind} in ('performed', 'verified', 'returned')`),
+		check(
+			'step_signoffs_complete',
+			sql`(${t.kind} = 'returned' and ${t.reason} is not null) or (${t.kind} <> 'returned' and ${t.signatureId} is not null)`
+		)
+	]
+);
+
+export const deviations = pgTable(
+	'deviations',
+	{
+		id: uuid('id').primaryKey(),
+		/** DEV-<year>-<nnnn>, per site and year. */
+		number: text('number').notNull().unique(),
+		workOrderId: uuid('work_order_id')
+			.notNull()
+			.references(() => workOrders.id),
+		stepKey: text('step_key').notNull(),
+		fieldKey: text('field_key').notNull(),
+		entryId: uuid('entry_id')
+			.notNull()
+			.unique()
+			.references(() => stepEntries.id),
+		description: text('description').notNull(),
+		...recorded()
+	},
+	(t) => [index('deviations_work_order').on(t.workOrderId)]
+);
+
+export const deviationDispositions = pgTable(
+	'deviation_dispositions',
+	{
+		id: uuid('id').primaryKey(),
+		deviationId: uuid('deviation_id')
+			.notNull()
+			.unique()
+			.references(() => deviations.id),
+		decision: text('decision').notNull(),
+		text: text('text').notNull(),
+		signatureId: uuid('signature_id')
+			.notNull()
+			.unique()
+			.references(() => signatures.id),
+		...recorded()
+	},
+	(t) => [
+		check(
+			'deviation_dispositions_decision',
+			sql`${t.decision} in ('accepted', 'corrected', 'capa')`
+		)
+	]
+);

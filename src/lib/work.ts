@@ -1,0 +1,458 @@
+import type { ProcedureField, ProcedureStep } from './schemas/procedure';
+
+/**
+ * Work orders (5/10): their words, and the rules both sides share — how a raw entry becomes a
+ * typed value with its result against the limits, how a step's state and a work order's status
+ * follow from their append-only rows, and the canonical content each signature binds to (ES3).
+ * Pure functions: tested in work.spec.ts, used by the server to decide and the browser to show.
+ */
+
+export const workKinds = ['preventive', 'corrective', 'follow_up'] as const;
+export type WorkKind = (typeof workKinds)[number];
+export const workKindLabels: Record<WorkKind, string> = {
+	preventive: 'Preventive',
+	corrective: 'Corrective',
+	follow_up: 'Follow-up'
+};
+
+export const priorities = ['routine', 'high', 'urgent'] as const;
+export type Priority = (typeof priorities)[number];
+export const priorityLabels: Record<Priority, string> = {
+	routine: 'Routine',
+	high: 'High',
+	urgent: 'Urgent'
+};
+
+export const workStatuses = [
+	'planned',
+	'in_progress',
+	'executed',
+	'released',
+	'cancelled'
+] as const;
+export type WorkStatus = (typeof workStatuses)[number];
+export const workStatusLabels: Record<WorkStatus, string> = {
+	planned: 'Planned',
+	in_progress: 'In progress',
+	executed: 'Executed',
+	released: 'Released',
+	cancelled: 'Cancelled'
+};
+
+/** What a transition row records; the status follows from the newest one that changes it. */
+export const transitionKinds = [
+	'planned',
+	'started',
+	'executed',
+	'trail_reviewed',
+	'released',
+	'returned',
+	'cancelled'
+] as const;
+export type TransitionKind = (typeof transitionKinds)[number];
+export const statusAfter: Record<TransitionKind, WorkStatus | null> = {
+	planned: 'planned',
+	started: 'in_progress',
+	executed: 'executed',
+	trail_reviewed: null,
+	released: 'released',
+	returned: 'in_progress',
+	cancelled: 'cancelled'
+};
+
+export function statusOf(transitions: readonly { kind: TransitionKind }[]): WorkStatus {
+	let status: WorkStatus = 'planned';
+	for (const t of transitions) status = statusAfter[t.kind] ?? status;
+	return status;
+}
+
+export const stepStates = ['not_started', 'entered', 'performed', 'verified', 'returned'] as const;
+export type StepState = (typeof stepStates)[number];
+export const stepStateLabels: Record<StepState, string> = {
+	not_started: 'Not started',
+	entered: 'Entered',
+	performed: 'Performed',
+	verified: 'Verified',
+	returned: 'Returned'
+};
+
+// ── Entries ──────────────────────────────────────────────────────────────────
+
+/** A stored value, by field kind. Lots and instruments carry what was checked at entry. */
+export type EntryValue =
+	| { number: number }
+	| { text: string }
+	| { pass: boolean }
+	| { choice: string }
+	| {
+			lotId: string;
+			partNumber: string;
+			supplierLot: string;
+			materialCode: string;
+			expiresOn: string | null;
+	  }
+	| { instrumentId: string; code: string; kind: string; calibrationDueOn: string }
+	| { completed: boolean };
+
+/** Kinds a technician enters on the Execute screen in this release (photos arrive with 7/10). */
+export const enterable = (f: Pick<ProcedureField, 'kind'>) =>
+	f.kind !== 'photo' && f.kind !== 'calculated';
+
+export type Parsed =
+	| { ok: true; value: EntryValue | { lotId: string } | { instrumentId: string } }
+	| { ok: false; message: string };
+
+const uuidPattern = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
+
+/**
+ * A raw form value for a field → its typed value (lots and instruments as ids, resolved and
+ * checked by the server). An empty string is "not entered" and gives null.
+ */
+export function parseEntry(field: ProcedureField, raw: string): Parsed | null {
+	const text = raw.trim();
+	if (!text) return null;
+	switch (field.kind) {
+		case 'number': {
+			// A decimal comma is accepted where it is the only separator (common on the shop floor).
+			const normal = text.includes('.') ? text : text.replace(',', '.');
+			if (!/^[-+]?\d+(\.\d+)?$/.test(normal))
+				return { ok: false, message: `Enter a number in ${field.unit}.` };
+			const decimals = normal.split('.')[1]?.length ?? 0;
+			if (decimals > field.decimals)
+				return {
+					ok: false,
+					message:
+						field.decimals === 0
+							? 'Enter a whole number: the procedure records no decimals.'
+							: `Enter at most ${field.decimals} decimal${field.decimals === 1 ? '' : 's'}, as the procedure records.`
+				};
+			const number = Number(normal);
+			if (!Number.isFinite(number) || Math.abs(number) > 1e12)
+				return { ok: false, message: 'That number is out of any measurable range.' };
+			return { ok: true, value: { number } };
+		}
+		case 'text':
+			if (text.length > 2000) return { ok: false, message: 'Keep it under 2000 characters.' };
+			return { ok: true, value: { text } };
+		case 'pass_fail':
+			if (text !== 'pass' && text !== 'fail') return { ok: false, message: 'Choose pass or fail.' };
+			return { ok: true, value: { pass: text === 'pass' } };
+		case 'tightening':
+			if (text !== 'completed')
+				return { ok: false, message: 'Confirm the passes once they are done.' };
+			return { ok: true, value: { completed: true } };
+		case 'choice':
+			if (!field.options.includes(text))
+				return { ok: false, message: 'Choose one of the options.' };
+			return { ok: true, value: { choice: text } };
+		case 'part_lot':
+			if (!uuidPattern.test(text)) return { ok: false, message: 'Choose the lot from the list.' };
+			return { ok: true, value: { lotId: text.toLowerCase() } };
+		case 'instrument':
+			if (!uuidPattern.test(text))
+				return { ok: false, message: 'Choose the instrument from the list.' };
+			return { ok: true, value: { instrumentId: text.toLowerCase() } };
+		default:
+			return { ok: false, message: 'This field is not entered by hand.' };
+	}
+}
+
+/**
+ * Whether a value meets the field's limits: true, false (outside: a deviation), or null where
+ * the field has none. Limits are inclusive. A failed pass/fail check is outside its limits.
+ */
+export function withinLimits(field: ProcedureField, value: EntryValue): boolean | null {
+	if ('number' in value && field.kind === 'number') {
+		const n = value.number;
+		if (field.limitType === 'range')
+			return (field.min === null || n >= field.min) && (field.max === null || n <= field.max);
+		if (field.limitType === 'target' && field.target !== null && field.tolerance !== null) {
+			// Compared at the field's decimals, so 10.0 ± 0.5 takes 10.5 whatever binary floats do.
+			const scale = 10 ** Math.max(field.decimals, 6);
+			const off = Math.round(Math.abs(n - field.target) * scale);
+			return off <= Math.round(field.tolerance * scale);
+		}
+		return null;
+	}
+	if ('pass' in value) return value.pass;
+	if ('completed' in value) return value.completed;
+	return null;
+}
+
+/** A value in words, with its unit: what the record, the verifier and the signature show. */
+export function valueText(
+	field: Pick<ProcedureField, 'kind' | 'unit' | 'decimals'>,
+	value: EntryValue
+) {
+	if ('number' in value) return `${value.number.toFixed(field.decimals)} ${field.unit}`.trim();
+	if ('text' in value) return value.text;
+	if ('pass' in value) return value.pass ? 'Pass' : 'Fail';
+	if ('choice' in value) return value.choice;
+	if ('completed' in value) return 'Passes completed';
+	if ('lotId' in value)
+		return `${value.partNumber} lot ${value.supplierLot} (${value.materialCode}${value.expiresOn ? `, expires ${value.expiresOn}` : ''})`;
+	return `${value.code} (${value.kind}, calibration due ${value.calibrationDueOn})`;
+}
+
+/** The raw form text that gives back a stored value (to prefill a correction). */
+export function rawOf(value: EntryValue): string {
+	if ('number' in value) return String(value.number);
+	if ('text' in value) return value.text;
+	if ('pass' in value) return value.pass ? 'pass' : 'fail';
+	if ('choice' in value) return value.choice;
+	if ('completed' in value) return 'completed';
+	if ('lotId' in value) return value.lotId;
+	return value.instrumentId;
+}
+
+// ── Steps: state from the rows ───────────────────────────────────────────────
+
+export type EntryRow = {
+	id: string;
+	stepKey: string;
+	fieldKey: string;
+	value: EntryValue;
+	withinLimits: boolean | null;
+	performedAt: string;
+	lateReason: string | null;
+	corrects: string | null;
+	reason: string | null;
+	recordedBy: string | null;
+	recordedByName: string;
+	recordedAt: string;
+	auditSeq: number;
+};
+export type SignoffRow = {
+	id: string;
+	stepKey: string;
+	kind: 'performed' | 'verified' | 'returned';
+	signatureId: string | null;
+	reason: string | null;
+	recordedBy: string | null;
+	recordedByName: string;
+	recordedAt: string;
+	auditSeq: number;
+};
+
+/** The entries in force: every entry no later entry corrects, in the procedure's field order. */
+export function currentEntries(step: ProcedureStep, entries: readonly EntryRow[]) {
+	const corrected = new Set(entries.map((e) => e.corrects).filter(Boolean));
+	const mine = entries.filter((e) => e.stepKey === step.key && !corrected.has(e.id));
+	return step.fields
+		.map((f) => mine.find((e) => e.fieldKey === f.key))
+		.filter((e): e is EntryRow => Boolean(e));
+}
+
+export type StepStatus = {
+	state: StepState;
+	/** The signoff that gives the state (performed, verified or returned), if any. */
+	performed: SignoffRow | null;
+	verified: SignoffRow | null;
+	returned: SignoffRow | null;
+	/** Required fields (that can be entered) still without a value. */
+	missing: string[];
+	/** Some value in force is outside its limits. */
+	outside: boolean;
+	/** Rows on this step: the expected version a save or a signature must name (item 9). */
+	revision: number;
+};
+
+/**
+ * A step's state from its rows: a signoff counts only when nothing was entered after it, so a
+ * correction after signing sends the step back to Entered and the old signature stops matching.
+ */
+export function stepStatus(
+	step: ProcedureStep,
+	entries: readonly EntryRow[],
+	signoffs: readonly SignoffRow[]
+): StepStatus {
+	const mineEntries = entries.filter((e) => e.stepKey === step.key);
+	const mineSignoffs = signoffs.filter((s) => s.stepKey === step.key);
+	const current = currentEntries(step, entries);
+	const lastEntry = Math.max(0, ...mineEntries.map((e) => e.auditSeq));
+	const after = mineSignoffs
+		.filter((s) => s.auditSeq > lastEntry)
+		.sort((a, b) => a.auditSeq - b.auditSeq);
+	let performed: SignoffRow | null = null;
+	let verified: SignoffRow | null = null;
+	let returned: SignoffRow | null = null;
+	for (const s of after) {
+		if (s.kind === 'performed') [performed, verified, returned] = [s, null, null];
+		else if (s.kind === 'verified' && performed) verified = s;
+		else if (s.kind === 'returned') [performed, verified, returned] = [null, null, s];
+	}
+	const state: StepState = verified
+		? 'verified'
+		: performed
+			? 'performed'
+			: returned
+				? 'returned'
+				: mineEntries.length
+					? 'entered'
+					: 'not_started';
+	// A required photo counts as missing until photo evidence arrives (7/10): such a step cannot be signed.
+	const missing = step.fields
+		.filter(
+			(f) => f.required && f.kind !== 'calculated' && !current.some((e) => e.fieldKey === f.key)
+		)
+		.map((f) => f.key);
+	return {
+		state,
+		performed,
+		verified,
+		returned,
+		missing,
+		outside: current.some((e) => e.withinLimits === false),
+		revision: mineEntries.length + mineSignoffs.length
+	};
+}
+
+/** Done as far as the procedure asks: performed, and verified where verification is required. */
+export const stepDone = (step: ProcedureStep, s: StepStatus) =>
+	step.verificationRequired
+		? s.state === 'verified'
+		: s.state === 'performed' || s.state === 'verified';
+
+// ── What signatures bind to (ES3) ────────────────────────────────────────────
+
+export type WorkOrderIdentity = {
+	id: string;
+	number: string;
+	equipmentTag: string;
+	procedureCode: string;
+	procedureVersion: number;
+};
+
+export const STEP_RECORD = 'work_order_step';
+export const WORK_ORDER_RECORD = 'work_order';
+export const RELEASE_RECORD = 'work_order_release';
+export const TRAIL_RECORD = 'work_order_trail';
+export const DEVIATION_RECORD = 'deviation';
+
+/**
+ * The content a Performed or Verified signature binds to: the work order, the step, and every
+ * value in force with its unit, result and times. Any correction changes it.
+ */
+export function stepSignedContent(
+	wo: WorkOrderIdentity,
+	step: ProcedureStep,
+	position: number,
+	entries: readonly EntryRow[]
+) {
+	return {
+		type: STEP_RECORD,
+		id: `${wo.id}:${step.key}`,
+		content: {
+			workOrder: wo.number,
+			equipment: wo.equipmentTag,
+			procedure: { code: wo.procedureCode, version: wo.procedureVersion },
+			step: { key: step.key, position, title: step.title },
+			entries: currentEntries(step, entries).map((e) => {
+				const field = step.fields.find((f) => f.key === e.fieldKey)!;
+				return {
+					entryId: e.id,
+					field: e.fieldKey,
+					label: field.label,
+					value: e.value,
+					text: valueText(field, e.value),
+					withinLimits: e.withinLimits,
+					performedAt: e.performedAt
+				};
+			})
+		}
+	};
+}
+
+/**
+ * The content an Executed (or Returned) signature binds to: every step's values in force and its
+ * signatures, and the deviations raised. With `release` (the trail review's signature), the
+ * content a Released signature binds to: the same, plus each deviation's disposition and the
+ * trail review — so Quality's later work never breaks the technician's Executed signature.
+ */
+export function workOrderSignedContent(
+	wo: WorkOrderIdentity,
+	steps: readonly ProcedureStep[],
+	entries: readonly EntryRow[],
+	signoffs: readonly SignoffRow[],
+	deviations: readonly { number: string; dispositionSignatureId: string | null }[],
+	release?: { trailReviewSignatureId: string | null }
+) {
+	const execution = {
+		number: wo.number,
+		equipment: wo.equipmentTag,
+		procedure: { code: wo.procedureCode, version: wo.procedureVersion },
+		steps: steps.map((step) => {
+			const s = stepStatus(step, entries, signoffs);
+			return {
+				key: step.key,
+				state: s.state,
+				entries: currentEntries(step, entries).map((e) => e.id),
+				performed: s.performed?.signatureId ?? null,
+				verified: s.verified?.signatureId ?? null
+			};
+		}),
+		deviations: deviations.map((d) => d.number)
+	};
+	if (!release) return { type: WORK_ORDER_RECORD, id: wo.id, content: execution };
+	return {
+		type: RELEASE_RECORD,
+		id: wo.id,
+		content: {
+			...execution,
+			deviations: deviations.map((d) => ({
+				number: d.number,
+				disposition: d.dispositionSignatureId
+			})),
+			trailReview: release.trailReviewSignatureId
+		}
+	};
+}
+
+/** The content of a trail review: the work order's audit events as reviewed (seq and hash each). */
+export function trailSignedContent(
+	wo: WorkOrderIdentity,
+	events: readonly { seq: number; hash: string }[]
+) {
+	return {
+		type: TRAIL_RECORD,
+		id: wo.id,
+		content: { number: wo.number, events: events.map((e) => ({ seq: e.seq, hash: e.hash })) }
+	};
+}
+
+export const deviationDecisions = ['accepted', 'corrected', 'capa'] as const;
+export type DeviationDecision = (typeof deviationDecisions)[number];
+export const deviationDecisionLabels: Record<DeviationDecision, string> = {
+	accepted: 'No impact: accepted as recorded',
+	corrected: 'Corrected within this work order',
+	capa: 'Impact possible: CAPA opened'
+};
+
+export function deviationSignedContent(d: {
+	id: string;
+	number: string;
+	workOrder: string;
+	stepKey: string;
+	fieldKey: string;
+	description: string;
+	entryId: string;
+	decision: DeviationDecision;
+	text: string;
+}) {
+	return {
+		type: DEVIATION_RECORD,
+		id: d.id,
+		content: {
+			number: d.number,
+			workOrder: d.workOrder,
+			step: d.stepKey,
+			field: d.fieldKey,
+			entryId: d.entryId,
+			description: d.description,
+			disposition: { decision: d.decision, text: d.text }
+		}
+	};
+}
+
+/** DI1: a performed-at further back than this needs a reason (a late entry). */
+export const LATE_ENTRY_MINUTES = 15;
