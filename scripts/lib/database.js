@@ -62,12 +62,12 @@ export async function runSeed(ownerUrl, appUrl) {
 	process.env.DATABASE_URL = appUrl;
 	/** @type {typeof import('../../src/lib/server/db/demo/index.ts')} */
 	const demo = await tsImport('../../src/lib/server/db/demo/index.ts', import.meta.url);
-	/** @type {typeof import('../../src/lib/server/db/index.ts')} */
-	const app = await tsImport('../../src/lib/server/db/index.ts', import.meta.url);
 	try {
-		return { ...added, ...(await demo.seedDemoMasterData(DEMO_PASSWORD)) };
+		const master = await demo.seedDemoMasterData(DEMO_PASSWORD);
+		return { ...added, ...master, work: await demo.seedDemoWork(DEMO_PASSWORD) };
 	} finally {
-		await app.closeDatabase();
+		// Through the same module copy as the seed (each tsImport loads its own copy, and pool).
+		await demo.closeDatabase();
 		if (previous === undefined) delete process.env.DATABASE_URL;
 		else process.env.DATABASE_URL = previous;
 	}

@@ -17,6 +17,7 @@ const readers: readonly Role[] = ['technician', 'planner', 'quality', 'inspector
 const administrators: readonly Role[] = ['administrator'];
 const auditors: readonly Role[] = ['quality', 'inspector'];
 const planners: readonly Role[] = ['planner'];
+const technicians: readonly Role[] = ['technician'];
 
 export const routeAccess = {
 	'/': 'signed-in',
@@ -50,6 +51,12 @@ export const routeAccess = {
 	'/(app)/procedures/versions/[id=uuid]': readers,
 	'/(app)/procedures/versions/[id=uuid]/edit': planners,
 	'/(app)/qualifications': readers,
+	'/(app)/work': readers,
+	'/(app)/work/new': planners,
+	'/(app)/work/[id=uuid]': readers,
+	'/(app)/work/[id=uuid]/steps': technicians,
+	'/(app)/work/[id=uuid]/steps/[key=stepkey]': technicians,
+	'/api/v1/queues': 'signed-in',
 	'/(app)/people': administrators,
 	'/(app)/people/new': administrators,
 	'/(app)/people/[id=uuid]': administrators

@@ -7,6 +7,7 @@ import type { Role } from './roles';
 type NavHref = Extract<
 	Pathname,
 	| '/'
+	| '/work'
 	| '/plant'
 	| '/procedures'
 	| '/instruments'
@@ -19,6 +20,7 @@ export type NavItem = { href: NavHref; label: string; route: keyof typeof routeA
 
 const items: NavItem[] = [
 	{ href: '/', label: 'Waiting for me', route: '/(app)' },
+	{ href: '/work', label: 'Work', route: '/(app)/work' },
 	{ href: '/plant', label: 'Plant', route: '/(app)/plant' },
 	{ href: '/procedures', label: 'Procedures', route: '/(app)/procedures' },
 	{ href: '/instruments', label: 'Instruments', route: '/(app)/instruments' },

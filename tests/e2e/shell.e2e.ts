@@ -26,10 +26,11 @@ test.describe('home page, Waiting for me', () => {
 		await expect(current).toHaveAttribute('aria-current', 'page');
 		await expect(page.locator('header')).toBeHidden();
 
-		// A technician's queues (empty until work orders exist).
-		await expect(page.getByRole('heading', { level: 2, name: /^Steps to perform/ })).toBeVisible();
+		// A technician's queues: the demo work assigned to them, kept fresh from GET /api/v1/queues.
+		const assigned = page.getByRole('region', { name: /^Work assigned to me/ });
+		await expect(assigned.getByRole('link', { name: /XV-3105/ })).toBeVisible();
 		await expect(page.getByRole('heading', { level: 2, name: /^Steps to verify/ })).toBeVisible();
-		await expect(page.getByText('No work order is assigned to you.')).toBeVisible();
+		await expect(page.getByText(/Kept up to date · refreshed/)).toBeVisible();
 		await expect(page.getByRole('complementary', { name: 'Safety notice' })).toContainText(
 			"the manufacturer's instructions and local codes"
 		);

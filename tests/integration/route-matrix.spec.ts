@@ -7,7 +7,7 @@ import {
 	seedDemoAccounts,
 	seedDemoPlant
 } from '../../src/lib/server/db/seed';
-import { seedDemoMasterData } from '../../src/lib/server/db/demo/index';
+import { seedDemoMasterData, seedDemoWork } from '../../src/lib/server/db/demo/index';
 import { appDatabase } from './helpers/app-database';
 import { serveBuiltApp, signInOverHttp } from './helpers/served-app';
 
@@ -25,6 +25,7 @@ beforeAll(async () => {
 	await seedDemoPlant(t.owner);
 	await seedDemoAccounts(t.owner);
 	await seedDemoMasterData(DEMO_PASSWORD);
+	await seedDemoWork(DEMO_PASSWORD);
 	const one = async (query: Promise<unknown>) => ((await query) as { id: string }[])[0]!.id;
 	ids.equipment = await one(t.ownerSql`select id from equipment order by tag limit 1`);
 	ids.instrument = await one(t.ownerSql`select id from instruments order by code limit 1`);
@@ -32,6 +33,10 @@ beforeAll(async () => {
 	ids.procedure = await one(t.ownerSql`select id from procedures order by code limit 1`);
 	ids.version = await one(
 		t.ownerSql`select id from procedure_versions order by recorded_at limit 1`
+	);
+	ids.workOrder = await one(
+		t.ownerSql`select w.id from work_orders w join work_order_transitions t on t.work_order_id = w.id
+			where t.kind = 'executed' order by w.number limit 1`
 	);
 	[{ id: someAccountId }] =
 		(await t.ownerSql`select id from accounts where username = 'tech1'`) as unknown as [
@@ -71,6 +76,11 @@ const paths = (): Record<string, string> => ({
 	// An approved version: its editor answers 409 to a Planner (allowed, but nothing to edit).
 	'/(app)/procedures/versions/[id=uuid]/edit': `/procedures/versions/${ids.version}/edit`,
 	'/(app)/qualifications': '/qualifications',
+	'/(app)/work': '/work',
+	'/(app)/work/new': '/work/new',
+	'/(app)/work/[id=uuid]': `/work/${ids.workOrder}`,
+	'/(app)/work/[id=uuid]/steps/[key=stepkey]': `/work/${ids.workOrder}/steps/isolate`,
+	'/api/v1/queues': '/api/v1/queues',
 	'/(app)/people': '/people',
 	'/(app)/people/new': '/people/new',
 	'/(app)/people/[id=uuid]': `/people/${someAccountId}`,
@@ -82,7 +92,14 @@ const paths = (): Record<string, string> => ({
 	'/(app)/audit': '/audit',
 	'/api/[...path]': '/api/v1/no-such-thing'
 });
-const layoutsOnly = ['/', '/api', '/api/v1', '/api/v1/audit', '/(app)/procedures/versions'];
+const layoutsOnly = [
+	'/',
+	'/api',
+	'/api/v1',
+	'/api/v1/audit',
+	'/(app)/procedures/versions',
+	'/(app)/work/[id=uuid]/steps'
+];
 
 const get = (path: string, cookie?: string) =>
 	fetch(`${app.origin}${path}`, { redirect: 'manual', headers: cookie ? { cookie } : {} });
@@ -162,6 +179,46 @@ describe('role × route matrix', () => {
 		});
 		expect(response.status).toBe(403);
 		expect(await t.ownerSql`select 1 from equipment where tag = 'XV-9999'`).toHaveLength(0);
+	});
+
+	it('a technician’s POST to release a work order, and an inspector’s to save a step, are refused with 403; nothing is stored (AC1, MR4)', async () => {
+		const count = async () =>
+			(
+				await t.ownerSql`select (select count(*) from work_order_transitions where work_order_id = ${ids.workOrder!})::int
+					+ (select count(*) from step_entries where work_order_id = ${ids.workOrder!})::int as n`
+			)[0]!.n as number;
+		const before = await count();
+		const post = (path: string, cookie: string, body: Record<string, string>) =>
+			fetch(`${app.origin}${path}`, {
+				method: 'POST',
+				redirect: 'manual',
+				headers: {
+					origin: app.origin,
+					cookie,
+					'content-type': 'application/x-www-form-urlencoded'
+				},
+				body: new URLSearchParams(body)
+			});
+		const release = await post(`/work/${ids.workOrder}?/release`, cookies.get('tech1')!, {
+			password: DEMO_PASSWORD,
+			seen: '0'
+		});
+		expect(release.status).toBe(403);
+		const save = await post(
+			`/work/${ids.workOrder}/steps/isolate?/save`,
+			cookies.get('inspector')!,
+			{ 'value:loto-permit': 'LP-1', seen: '0' }
+		);
+		expect(save.status).toBe(403);
+		expect(await count()).toBe(before);
+	});
+
+	it('GET /api/v1/queues answers each person their own queues as JSON', async () => {
+		const res = await get('/api/v1/queues', cookies.get('quality'));
+		expect(res.status).toBe(200);
+		const body = (await res.json()) as { queues: { key: string; items: unknown[] }[] };
+		expect(body.queues.map((q) => q.key)).toEqual(['review', 'deviations']);
+		expect(body.queues[0]!.items.length).toBeGreaterThan(0);
 	});
 
 	it('a blank reason for a change is answered 422 and stores nothing (AT2)', async () => {

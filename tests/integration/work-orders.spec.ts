@@ -141,7 +141,11 @@ async function goodValues(): Promise<Record<string, Record<string, string>>> {
 			tightening: 'completed'
 		},
 		'limiter-after': { 'limiter-as-left': '12.5', 'limiter-matches': 'pass' },
-		'flow-check': { 'flow-instrument': await instrumentOf('FM-01'), flow: '52.0', 'no-leak': 'pass' },
+		'flow-check': {
+			'flow-instrument': await instrumentOf('FM-01'),
+			flow: '52.0',
+			'no-leak': 'pass'
+		},
 		return: { 'locks-removed': 'pass' }
 	};
 }
@@ -203,7 +207,9 @@ describe('the diaphragm job from plan to release', () => {
 			if (key === 'flow-check') await verify('tech2', id, key);
 		}
 		const v = await view(id);
-		expect(v.steps.every((s) => s.status.state === 'performed' || s.status.state === 'verified')).toBe(true);
+		expect(
+			v.steps.every((s) => s.status.state === 'performed' || s.status.state === 'verified')
+		).toBe(true);
 		const corrected = v.entries.filter((x) => x.corrects);
 		expect(corrected).toHaveLength(1);
 		expect(v.entries.find((x) => x.id === corrected[0]!.corrects)!.value).toEqual({ number: 13 });
@@ -218,7 +224,9 @@ describe('the diaphragm job from plan to release', () => {
 	});
 
 	it('release is refused with an open deviation and without the trail review (AT5, MR4)', async () => {
-		const e = await refusal(work.releaseWorkOrder(people.quality!, id, pw, (await view(id)).revision, ip));
+		const e = await refusal(
+			work.releaseWorkOrder(people.quality!, id, pw, (await view(id)).revision, ip)
+		);
 		expect(e.status).toBe(409);
 		expect(e.message).toMatch(/Deviation DEV-.* is open/);
 		expect(e.message).toMatch(/audit trail is not recorded/);
@@ -229,7 +237,14 @@ describe('the diaphragm job from plan to release', () => {
 		const r = await refusal(work.reviewTrail(people.techqa!, id, pw, v.revision, ip));
 		expect(r.status).toBe(403);
 		const d = await refusal(
-			work.dispositionDeviation(people.techqa!, v.deviations[0]!.id, 'accepted', 'No impact.', pw, ip)
+			work.dispositionDeviation(
+				people.techqa!,
+				v.deviations[0]!.id,
+				'accepted',
+				'No impact.',
+				pw,
+				ip
+			)
 		);
 		expect(d.status).toBe(403);
 		const [row] = await t.ownerSql`select count(*)::int as n from audit_event

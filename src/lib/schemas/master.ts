@@ -20,7 +20,7 @@ const optionalWords = (max = 500) =>
 		.refine(isStorableText, unstorableTextMessage)
 		.default('');
 /** A calendar date (YYYY-MM-DD) in a range PostgreSQL and people both read the same way. */
-const isoDay = (label: string) =>
+export const isoDay = (label: string) =>
 	z.iso
 		.date({ error: `Enter the ${label} as a date.`, abort: true })
 		.refine((d) => d >= '1900-01-01' && d <= '2199-12-31', {

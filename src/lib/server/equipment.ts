@@ -410,7 +410,8 @@ export async function changeQuarantine(
 	});
 }
 
-async function lockEquipment(tx: Transaction, equipmentId: string) {
+/** The equipment's status lock (a work order's start takes it before reading the status). */
+export async function lockEquipment(tx: Transaction, equipmentId: string) {
 	await tx.execute(
 		sql`select pg_advisory_xact_lock(hashtextextended(${'equipment:' + equipmentId}, 0))`
 	);

@@ -198,3 +198,34 @@ export async function receiveLot(
 		throw e;
 	}
 }
+
+/** Every lot of the site with its part's current material code: what a part-lot field offers (5/10). */
+export async function lotsOfSite(siteId: string) {
+	const rows = await db()
+		.select({
+			id: partLots.id,
+			partId: partLots.partId,
+			partNumber: parts.partNumber,
+			supplierLot: partLots.supplierLot,
+			expiresOn: partLots.expiresOn
+		})
+		.from(partLots)
+		.innerJoin(parts, eq(parts.id, partLots.partId))
+		.where(eq(parts.siteId, siteId))
+		.orderBy(asc(parts.partNumber), asc(partLots.supplierLot));
+	if (!rows.length) return [];
+	const versions = await db()
+		.select({ partId: partVersions.partId, materialCode: partVersions.materialCode })
+		.from(partVersions)
+		.where(
+			inArray(
+				partVersions.partId,
+				rows.map((r) => r.partId)
+			)
+		)
+		.orderBy(desc(partVersions.version));
+	return rows.map((r) => ({
+		...r,
+		materialCode: versions.find((v) => v.partId === r.partId)!.materialCode
+	}));
+}

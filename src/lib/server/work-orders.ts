@@ -53,7 +53,7 @@ import {
 	workOrders,
 	workOrderTransitions
 } from './db/schema/index';
-import { setStatus } from './equipment';
+import { lockEquipment, setStatus } from './equipment';
 import { instrumentFitness, getInstrument } from './instruments';
 import { effectiveVersion } from './procedures';
 import { currentSite } from './plant';
@@ -527,10 +527,13 @@ async function checkAssignees(tx: Transaction, ids: string[]) {
 	}
 }
 
-/** The next number of a kind (WO, DEV) for the site and year; taken under a lock, unique in the database. */
-async function nextNumber(tx: Transaction, prefix: 'WO' | 'DEV', siteId: string, year: string) {
+/**
+ * The next number of a kind (WO, DEV) for the year. Numbers are unique across the database, so
+ * the lock and the count are too (one sequence for every site).
+ */
+async function nextNumber(tx: Transaction, prefix: 'WO' | 'DEV', year: string) {
 	await tx.execute(
-		sql`select pg_advisory_xact_lock(hashtextextended(${`${prefix}-number:${siteId}:${year}`}, 0))`
+		sql`select pg_advisory_xact_lock(hashtextextended(${`${prefix}-number:${year}`}, 0))`
 	);
 	const table = prefix === 'WO' ? workOrders : deviations;
 	const [row] = await tx
@@ -574,7 +577,7 @@ export async function createWorkOrder(
 	const id = randomUUID();
 	return db().transaction(async (tx) => {
 		await checkAssignees(tx, input.assignees);
-		const number = await nextNumber(tx, 'WO', site.id, siteToday(site.timeZone).slice(0, 4));
+		const number = await nextNumber(tx, 'WO', siteToday(site.timeZone).slice(0, 4));
 		const rec = await appendRecordEvent(tx, by, {
 			action: 'work_order.create',
 			entityType: 'work_order',
@@ -642,8 +645,9 @@ export async function cancelWorkOrder(
 	seen: number,
 	clientAddress: string | null = null
 ) {
-	await mustHold(by, ['planner'], 'cancel work orders');
+	await mustHold(by, ['planner'], 'cancel work orders', { type: 'work_order', id });
 	needReason(reason);
+	reason = reason.trim();
 	await db().transaction(async (tx) => {
 		await lockWorkOrder(tx, id);
 		const s = await loadState(tx, id);
@@ -684,8 +688,9 @@ export async function changePlan(
 	seen: number,
 	clientAddress: string | null = null
 ) {
-	await mustHold(by, ['planner'], 'plan work orders');
+	await mustHold(by, ['planner'], 'plan work orders', { type: 'work_order', id });
 	needReason(reason);
+	reason = reason.trim();
 	await db().transaction(async (tx) => {
 		await lockWorkOrder(tx, id);
 		const s = await loadState(tx, id);
@@ -774,6 +779,14 @@ export async function startWorkOrder(
 	const s0 = await loadState(db(), id);
 	if (!s0) throw new RecordError('No such work order.', undefined, 404);
 	await mustBeAssignedAndQualified(user, s0, 'start this work order', siteToday(site.timeZone));
+	// MR1: work starts only on the version in force; a version superseded since planning cannot start.
+	const effective = await effectiveVersion(s0.wo.procedureId);
+	if (effective && effective.id !== s0.wo.procedureVersionId)
+		throw new RecordError(
+			`${s0.wo.procedureCode} version ${s0.wo.procedureVersion} was superseded by version ${effective.version} after this work was planned: cancel it and plan it again on the version in force.`,
+			undefined,
+			409
+		);
 	await db().transaction(async (tx) => {
 		await lockWorkOrder(tx, id);
 		const s = (await loadState(tx, id))!;
@@ -784,6 +797,8 @@ export async function startWorkOrder(
 				409
 			);
 		mustBeUnchanged(s, seen);
+		// The equipment's own lock before its status is read: two work orders cannot both take it.
+		await lockEquipment(tx, s.wo.equipmentId);
 		const eqStatus = await currentEquipmentStatus(tx, s.wo.equipmentId);
 		if (
 			(eqStatus.status === 'out_of_service' || eqStatus.status === 'awaiting_release') &&
@@ -1076,7 +1091,7 @@ export async function saveStep(
 			});
 			let deviation: string | null = null;
 			if (c.within === false) {
-				const number = await nextNumber(tx, 'DEV', s.wo.siteId, day.slice(0, 4));
+				const number = await nextNumber(tx, 'DEV', day.slice(0, 4));
 				const deviationId = randomUUID();
 				const description = input.deviations[c.field.key]!.trim();
 				const drec = await appendRecordEvent(tx, by, {
@@ -1132,14 +1147,22 @@ async function refuseSignature(
 	throw new RecordError(message, undefined, 403);
 }
 
-/** Who entered a value in force on a step, or signed any of its signoffs. */
+/**
+ * Who had a hand in the work: entered a value or signed a step (of one step, or of any), and —
+ * for the whole work order — who started it or signed it Executed. Quality must be none of them.
+ */
 const hands = (s: WorkOrderState, stepKey?: string) =>
 	new Set(
 		[
 			...s.entries.filter((e) => !stepKey || e.stepKey === stepKey).map((e) => e.recordedBy),
 			...s.signoffs
 				.filter((x) => (!stepKey || x.stepKey === stepKey) && x.kind !== 'returned')
-				.map((x) => x.recordedBy)
+				.map((x) => x.recordedBy),
+			...(stepKey
+				? []
+				: s.transitions
+						.filter((t) => t.kind === 'started' || t.kind === 'executed')
+						.map((t) => t.recordedBy))
 		].filter((x): x is string => Boolean(x))
 	);
 
@@ -1490,7 +1513,7 @@ async function mustBeIndependent(
 			record,
 			meaning,
 			'reviewer_took_part',
-			'You entered values or signed steps of this work order: someone independent of the work must do this.',
+			'You took part in this work (started it, entered values, or signed steps or the execution): someone independent of the work must do this.',
 			clientAddress
 		);
 }
@@ -1672,7 +1695,14 @@ export async function returnWorkOrder(
 	needReason(reason);
 	const s0 = await loadState(db(), id);
 	if (!s0) throw new RecordError('No such work order.', undefined, 404);
-	await mustHold(personOf(user), ['quality'], 'return work orders', { type: 'work_order', id });
+	await mustBeIndependent(
+		user,
+		s0,
+		workRecord(s0),
+		'returned',
+		'return work orders',
+		clientAddress
+	);
 	const check = (s: WorkOrderState) => {
 		if (s.status !== 'executed')
 			throw new RecordError('Only an executed work order can be returned.', undefined, 409);

@@ -12,6 +12,8 @@ import { currentSite } from '../../plant';
 import type { Recorder } from '../../records';
 import { accounts } from '../schema/index';
 import { diaphragmReplacement, retighteningCheck, sealInspection } from './procedures';
+export { seedDemoWork, type WorkSeedResult } from './work';
+export { closeDatabase } from '../index';
 
 /**
  * Demo master data (4/10), written through the same domain functions the app uses, so every row

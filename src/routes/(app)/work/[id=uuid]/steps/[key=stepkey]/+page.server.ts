@@ -1,0 +1,209 @@
+import { error, fail } from '@sveltejs/kit';
+import { superValidate } from 'sveltekit-superforms';
+import { zod4 } from 'sveltekit-superforms/adapters';
+import { siteToday } from '$lib/fitness';
+import { signSchema } from '$lib/schemas/signature';
+import { stepReturnSchema } from '$lib/schemas/work';
+import { requireRole } from '$lib/server/auth/guard';
+import { recordAction } from '$lib/server/forms';
+import { usableInstruments } from '$lib/server/instruments';
+import { lotsOfSite } from '$lib/server/parts';
+import { currentSite } from '$lib/server/plant';
+import { isQualified } from '$lib/server/qualifications';
+import { RecordError } from '$lib/server/records';
+import * as work from '$lib/server/work-orders';
+import { fromLocalInput, localInputValue } from '$lib/time';
+import { rawOf, stepDone } from '$lib/work';
+import type { Actions, PageServerLoad } from './$types';
+
+export const load: PageServerLoad = async (event) => {
+	await event.parent();
+	const user = event.locals.user!;
+	const found = await work.getWorkOrder(event.params.id);
+	if (!found) error(404, 'No such work order.');
+	const current = found.steps.find((s) => s.step.key === event.params.key);
+	if (!current) error(404, 'No such step in this procedure.');
+	const site = (await currentSite())!;
+	const today = siteToday(site.timeZone);
+	const kinds = [
+		...new Set(
+			current.step.fields.filter((f) => f.kind === 'instrument').map((f) => f.instrumentKind)
+		)
+	];
+	const instruments = Object.fromEntries(
+		await Promise.all(
+			kinds.map(async (k) => [
+				k,
+				(await usableInstruments(site.id, today, k)).map((i) => ({
+					id: i.id,
+					code: i.code,
+					description: i.description,
+					dueOn: i.dueOn
+				}))
+			])
+		)
+	) as Record<string, { id: string; code: string; description: string; dueOn: string | null }[]>;
+	const hasLots = current.step.fields.some((f) => f.kind === 'part_lot');
+	const mine = found.entries.filter(
+		(e) => e.stepKey === current.step.key && !found.entries.some((x) => x.corrects === e.id)
+	);
+	const seen = current.status.revision;
+	const assigned = found.plan.assignees.includes(user.id);
+	const performer = current.status.performed?.recordedBy;
+	const enteredByMe = found.entries.some(
+		(e) => e.stepKey === current.step.key && e.recordedBy === user.id
+	);
+	const qualified = await isQualified(user.id, found.wo.procedureId, today);
+	return {
+		wo: found.wo,
+		status: found.status,
+		equipment: found.equipment,
+		steps: found.steps.map((s) => ({
+			key: s.step.key,
+			title: s.step.title,
+			position: s.position,
+			state: s.status.state,
+			done: stepDone(s.step, s.status)
+		})),
+		current,
+		entries: found.entries.filter((e) => e.stepKey === current.step.key),
+		deviations: found.deviations.filter((d) => d.stepKey === current.step.key),
+		signatures: found.signatures,
+		raw: Object.fromEntries(mine.map((e) => [e.fieldKey, rawOf(e.value)])),
+		instruments,
+		lots: hasLots ? await lotsOfSite(site.id) : [],
+		materialCode: String(found.equipment.attributes.diaphragmMaterialCode ?? ''),
+		now: localInputValue(new Date(), site.timeZone),
+		today,
+		seen,
+		me: {
+			assigned,
+			qualified,
+			mayEnter: found.status === 'in_progress' && assigned && qualified,
+			mayVerify:
+				found.status === 'in_progress' &&
+				current.step.verificationRequired &&
+				current.status.state === 'performed' &&
+				qualified &&
+				performer !== user.id &&
+				!enteredByMe,
+			tookPart: performer === user.id || enteredByMe
+		},
+		forms: {
+			perform: await superValidate({ password: '', seen }, zod4(signSchema), {
+				id: 'perform',
+				errors: false
+			}),
+			verify: await superValidate({ password: '', seen }, zod4(signSchema), {
+				id: 'verify',
+				errors: false
+			}),
+			returnStep: await superValidate({ seen, reason: '' }, zod4(stepReturnSchema), {
+				id: 'return-step',
+				errors: false
+			})
+		}
+	};
+};
+
+export const actions: Actions = {
+	/** The step's entries: a plain form (its fields come from the procedure), read field by field. */
+	save: async (event) => {
+		const user = await requireRole(event, 'technician');
+		const body = await event.request.formData();
+		const values: Record<string, string> = {};
+		const reasons: Record<string, string> = {};
+		const deviations: Record<string, string> = {};
+		const typed: Record<string, string> = {};
+		for (const [name, v] of body) {
+			if (typeof v !== 'string' || v.length > 5000) continue;
+			typed[name] = v;
+			const [kind, key] = name.split(':', 2) as [string, string | undefined];
+			if (!key) continue;
+			if (kind === 'value') values[key] = v;
+			else if (kind === 'reason') reasons[key] = v;
+			else if (kind === 'deviation') deviations[key] = v;
+		}
+		const site = (await currentSite())!;
+		const at = String(body.get('performedAt') ?? '').trim();
+		const performedAt = at ? fromLocalInput(at, site.timeZone) : null;
+		if (at && !performedAt)
+			return fail(400, { typed, errors: { performedAt: 'Enter the date and time it was done.' } });
+		const seen = Number(body.get('seen'));
+		if (!Number.isInteger(seen) || seen < 0)
+			return fail(400, { typed, errors: { form: 'Reload the page and enter the values again.' } });
+		try {
+			const saved = await work.saveStep(
+				user,
+				event.params.id,
+				event.params.key,
+				{
+					values,
+					reasons,
+					deviations,
+					performedAt,
+					lateReason: String(body.get('lateReason') ?? ''),
+					seen
+				},
+				event.getClientAddress()
+			);
+			const raised = saved.filter((s) => s.deviation).map((s) => s.deviation);
+			return {
+				saved: saved.length,
+				text: `Saved ${saved.length} ${saved.length === 1 ? 'value' : 'values'}.${raised.length ? ` Deviation ${raised.join(', ')} raised for Quality.` : ''}`
+			};
+		} catch (e) {
+			if (e instanceof work.EntryErrors) return fail(e.status, { typed, errors: e.fields });
+			if (e instanceof RecordError)
+				return fail(e.status, { typed, errors: { form: e.message }, stale: e.status === 409 });
+			throw e;
+		}
+	},
+	perform: (event) =>
+		recordAction(
+			event,
+			{ schema: signSchema, id: 'perform', role: 'technician', ok: 'Signed Performed.' },
+			(user, d) =>
+				work.performStep(
+					user,
+					event.params.id,
+					event.params.key,
+					d.password,
+					d.seen,
+					event.getClientAddress()
+				)
+		),
+	verify: (event) =>
+		recordAction(
+			event,
+			{ schema: signSchema, id: 'verify', role: 'technician', ok: 'Signed Verified.' },
+			(user, d) =>
+				work.verifyStep(
+					user,
+					event.params.id,
+					event.params.key,
+					d.password,
+					d.seen,
+					event.getClientAddress()
+				)
+		),
+	returnStep: (event) =>
+		recordAction(
+			event,
+			{
+				schema: stepReturnSchema,
+				id: 'return-step',
+				role: 'technician',
+				ok: 'Returned to the performer with your reason.'
+			},
+			(user, d) =>
+				work.returnStep(
+					user,
+					event.params.id,
+					event.params.key,
+					d.reason,
+					d.seen,
+					event.getClientAddress()
+				)
+		)
+};

@@ -1,0 +1,314 @@
+import { expect, test, type Page } from '@playwright/test';
+import { DEMO_PASSWORD, expectNoHorizontalScroll, shot, signedInPage } from './helpers';
+
+// The whole diaphragm-replacement job in the browser (issue 5/10 "Done when"): a Planner plans
+// it; tech1 starts it and executes every step (one value first entered wrong and corrected with
+// a reason, one value out of limits raising a deviation, a wrong lot refused); tech2 verifies
+// the flagged steps from their queue; Quality reviews the trail, dispositions the deviation and
+// releases. The equipment's status follows each stage. Screenshots: test-results/screens/work-*.
+
+test.describe.configure({ mode: 'serial' });
+
+const TAG = 'XV-3108'; // DN 40, DM-EPDM-70, no demo work on it
+let workUrl = '';
+
+async function sign(page: Page, button: string | RegExp, meaning: string, ok: string | RegExp) {
+	await page.getByRole('button', { name: button }).click();
+	const dialog = page.getByRole('dialog', { name: `Sign: ${meaning}` });
+	await expect(dialog).toBeVisible();
+	await dialog.getByLabel('Your password').fill(DEMO_PASSWORD);
+	await dialog.getByRole('button', { name: `Sign: ${meaning}` }).click();
+	await expect(page.getByText(ok).first()).toBeVisible();
+}
+
+async function optionValue(page: Page, label: string, text: RegExp) {
+	const select = page.getByLabel(label, { exact: true });
+	const option = select.locator('option').filter({ hasText: text }).first();
+	return (await option.getAttribute('value'))!;
+}
+
+async function save(page: Page, ok: RegExp = /^Saved \d+ value/) {
+	await page.getByRole('button', { name: 'Save the values' }).click();
+	await expect(page.getByRole('status').filter({ hasText: ok })).toBeVisible();
+}
+
+async function performStep(page: Page, position: number) {
+	await sign(page, `Sign step ${position} Performed`, 'Performed', 'Signed Performed.');
+	await expect(page.getByText('Performed', { exact: true }).first()).toBeVisible();
+}
+
+async function openStep(page: Page, position: number) {
+	await page.getByRole('link', { name: `${position}`, exact: true }).click();
+	await expect(
+		page.getByRole('heading', { level: 1, name: new RegExp(`^${position}\\.`) })
+	).toBeVisible();
+}
+
+test('a Planner plans the diaphragm replacement on the effective procedure version', async ({
+	browser
+}) => {
+	const page = await signedInPage(browser, 'planner');
+	await page.setViewportSize({ width: 1280, height: 900 });
+	await page.goto('/work');
+	await expect(page.getByRole('table', { name: 'Work orders' })).toBeVisible();
+	await shot(page, 'work-list');
+	await page.getByRole('link', { name: 'Plan a work order' }).click();
+	await page.getByRole('button', { name: 'Plan the work order' }).click();
+	await expect(page.getByText('Choose the equipment.')).toBeVisible();
+	await page.getByLabel('Corrective').check();
+	await page
+		.getByLabel('Equipment', { exact: true })
+		.selectOption(await optionValue(page, 'Equipment', new RegExp(`^${TAG}`)));
+	await page
+		.getByLabel('Procedure', { exact: true })
+		.selectOption(await optionValue(page, 'Procedure', /MP-DV-01/));
+	await page.getByLabel('High').check();
+	await page.getByRole('checkbox', { name: 'Tomas Verhoek' }).check();
+	await page
+		.getByLabel('Notes for the technician')
+		.fill('Weeping at the bonnet seen on the morning round.');
+	await shot(page, 'work-new');
+	await page.getByRole('button', { name: 'Plan the work order' }).click();
+	await expect(
+		page.getByRole('heading', { level: 1, name: new RegExp(`WO-\\d{4}-\\d{4} · ${TAG}`) })
+	).toBeVisible();
+	await expect(page.getByText('Planned').first()).toBeVisible();
+	await expect(page.getByText('MP-DV-01 version 1')).toBeVisible();
+	workUrl = new URL(page.url()).pathname;
+	await page.context().close();
+});
+
+test('tech1 reads every caution, starts the work (Out of service) and executes every step', async ({
+	browser
+}) => {
+	test.setTimeout(180_000);
+	const page = await signedInPage(browser, 'tech1');
+	// A tablet at the equipment.
+	await page.setViewportSize({ width: 820, height: 1180 });
+	await page.goto(workUrl);
+	const before = page.getByRole('region', { name: 'Before you start' });
+	await expect(before.getByRole('list', { name: 'Cautions' })).toContainText(
+		'Stored spring energy'
+	);
+	await expect(page.getByRole('complementary', { name: 'Safety notice' }).first()).toBeVisible();
+	await shot(page, 'work-before-start');
+	await page.getByRole('button', { name: 'I have read the cautions: start the work' }).click();
+	await expect(page.getByText('In progress').first()).toBeVisible();
+	await expect(page.getByText('Out of service').first()).toBeVisible();
+
+	await page.getByRole('link', { name: /^Continue at step 1/ }).click();
+	await expect(page.getByRole('heading', { level: 1, name: /^1\. Isolate/ })).toBeVisible();
+	await expect(page.getByRole('progressbar', { name: 'Steps done' })).toBeVisible();
+	// Step 1: a typing error, then the correction with its reason.
+	await page.getByLabel('Lockout/tagout permit number').fill('LP-2207');
+	await page
+		.getByRole('group', { name: /Line section drained/ })
+		.getByLabel('Pass')
+		.check();
+	await page.getByLabel('Valve body surface temperature').fill('13');
+	await save(page);
+	await page.getByLabel('Valve body surface temperature').fill('31');
+	await page.getByRole('button', { name: 'Save the values' }).click();
+	await expect(
+		page.getByText('This changes a saved value: give the reason for the correction.')
+	).toBeVisible();
+	await page.getByLabel('Reason for correcting the saved value').fill('Typing error at entry');
+	await save(page);
+	await expect(page.locator('s', { hasText: '13 °C' })).toBeVisible();
+	await shot(page, 'work-execute-step1-corrected');
+	await performStep(page, 1);
+
+	await openStep(page, 2);
+	await page.getByLabel('Leak at the bonnet').check();
+	await save(page);
+	await performStep(page, 2);
+
+	await openStep(page, 3);
+	await page
+		.getByLabel('Measuring instrument', { exact: true })
+		.selectOption(await optionValue(page, 'Measuring instrument', /^CA-01/));
+	await page.getByLabel('Stroke-limiter setting as found').fill('12.5');
+	await save(page);
+	await performStep(page, 3);
+
+	await openStep(page, 4);
+	await page.getByLabel('Opened with control air (spring-to-close)').check();
+	await save(page);
+	await performStep(page, 4);
+
+	await openStep(page, 5);
+	await page.getByLabel('Fasteners replaced').fill('0');
+	await save(page);
+	await performStep(page, 5);
+
+	await openStep(page, 6);
+	await page.getByLabel('Cleaned, undamaged').check();
+	await save(page);
+	await performStep(page, 6);
+
+	// Step 7: a lot of the wrong material is refused; the right one is recorded.
+	await openStep(page, 7);
+	await page
+		.getByLabel('New diaphragm lot', { exact: true })
+		.selectOption(await optionValue(page, 'New diaphragm lot', /DIA-025-PT/));
+	await page.getByRole('button', { name: 'Save the values' }).click();
+	await expect(page.getByText(/Wrong part: DIA-025-PT is material DM-PTFE-2P/)).toBeVisible();
+	await shot(page, 'work-execute-wrong-lot');
+	await page
+		.getByLabel('New diaphragm lot', { exact: true })
+		.selectOption(await optionValue(page, 'New diaphragm lot', /L25-0630/));
+	await save(page);
+	await performStep(page, 7);
+
+	await openStep(page, 8);
+	await page
+		.getByRole('group', { name: /Control-air port/ })
+		.getByLabel('Pass')
+		.check();
+	await save(page);
+	await performStep(page, 8);
+
+	await openStep(page, 9);
+	await page
+		.getByLabel('Thickness gauge', { exact: true })
+		.selectOption(await optionValue(page, 'Thickness gauge', /^TG-01/));
+	await page.getByLabel('Diaphragm thickness before tightening').fill('4.20');
+	await page.getByLabel('Diaphragm thickness after tightening').fill('3.65');
+	await page
+		.getByLabel('Torque wrench', { exact: true })
+		.selectOption(await optionValue(page, 'Torque wrench', /^TW-01/));
+	await page.getByLabel(/Every pass done in the cross pattern/).check();
+	await save(page);
+	await performStep(page, 9);
+
+	await openStep(page, 10);
+	await page.getByLabel('Stroke-limiter setting as left').fill('12.5');
+	await page
+		.getByRole('group', { name: /Set to the as-found setting/ })
+		.getByLabel('Pass')
+		.check();
+	await save(page);
+	await performStep(page, 10);
+
+	// Step 11: the flow is below its minimum: a deviation is raised with a description.
+	await openStep(page, 11);
+	await page
+		.getByLabel('Flow meter', { exact: true })
+		.selectOption(await optionValue(page, 'Flow meter', /^FM-01/));
+	await page.getByLabel('Measured flow').fill('35,0');
+	await page
+		.getByRole('group', { name: /No leak at the bonnet/ })
+		.getByLabel('Pass')
+		.check();
+	await page.getByRole('button', { name: 'Save the values' }).click();
+	await expect(
+		page.getByText(/This value is outside its limits: describe what you found/)
+	).toBeVisible();
+	await page
+		.getByLabel('Outside its limits: describe what you found')
+		.fill('35 L/min against the 40 L/min minimum; supply pressure was low during the test.');
+	await save(page, /Deviation DEV-\d{4}-\d{4} raised for Quality/);
+	await shot(page, 'work-execute-deviation');
+	await performStep(page, 11);
+
+	await openStep(page, 12);
+	await page
+		.getByRole('group', { name: /Locks and tags removed/ })
+		.getByLabel('Pass')
+		.check();
+	await save(page);
+	await performStep(page, 12);
+	await expectNoHorizontalScroll(page);
+
+	// Steps 1, 7 and 11 wait for a second person: Executed cannot be signed yet.
+	await page.goto(workUrl);
+	await expect(page.getByRole('button', { name: 'Sign the work order Executed' })).toBeDisabled();
+	await page.context().close();
+});
+
+test('tech2 verifies the flagged steps from the queue; tech1 cannot verify their own', async ({
+	browser
+}) => {
+	const own = await signedInPage(browser, 'tech1');
+	await own.goto(`${workUrl}/steps/isolate`);
+	await expect(own.getByRole('button', { name: 'Sign step 1 Verified' })).toHaveCount(0);
+	await expect(own.getByText('Waiting for a second person to verify this step.')).toBeVisible();
+	await own.context().close();
+
+	const page = await signedInPage(browser, 'tech2');
+	await page.setViewportSize({ width: 820, height: 1180 });
+	const queue = page.getByRole('region', { name: /^Steps to verify/ });
+	await expect(queue.getByRole('link', { name: new RegExp(`${TAG} · step 1:`) })).toBeVisible();
+	await shot(page, 'work-verify-queue');
+	for (const position of [1, 7, 11]) {
+		await page.goto('/');
+		await queue.getByRole('link', { name: new RegExp(`${TAG} · step ${position}:`) }).click();
+		await expect(page.getByRole('heading', { name: 'Second-person verification' })).toBeVisible();
+		if (position === 11) await shot(page, 'work-verify-step');
+		await sign(page, `Sign step ${position} Verified`, 'Verified', 'Signed Verified.');
+	}
+	await page.context().close();
+
+	const tech1 = await signedInPage(browser, 'tech1');
+	await tech1.goto(workUrl);
+	await sign(
+		tech1,
+		'Sign the work order Executed',
+		'Executed',
+		'Signed Executed. The equipment now awaits Quality’s release.'
+	);
+	await expect(tech1.getByText('Awaiting release').first()).toBeVisible();
+	await shot(tech1, 'work-executed');
+	await tech1.context().close();
+});
+
+test('Quality reviews the trail, dispositions the deviation and releases: In service', async ({
+	browser
+}) => {
+	const page = await signedInPage(browser, 'quality');
+	await page.setViewportSize({ width: 1280, height: 900 });
+	const review = page.getByRole('region', { name: /^Records to review and release/ });
+	await review.getByRole('link', { name: new RegExp(TAG) }).click();
+	await expect(page.getByRole('heading', { name: 'Quality review and release' })).toBeVisible();
+	await expect(page.getByRole('button', { name: `Release ${TAG} to service` })).toBeDisabled();
+	const whatStops = page.getByRole('list', { name: 'What stops the release' });
+	await expect(whatStops).toContainText(/Deviation DEV-\d{4}-\d{4} is open/);
+	await expect(whatStops).toContainText('audit trail is not recorded yet');
+	// The correction is highlighted in the record and in its trail.
+	await expect(page.getByText('Corrected: Typing error at entry')).toBeVisible();
+	await expect(page.getByText('changed after first entry').first()).toBeVisible();
+	await shot(page, 'work-quality-review');
+
+	await sign(
+		page,
+		'Sign the trail review',
+		'Reviewed',
+		'The review of the audit trail is recorded'
+	);
+	await page.getByRole('button', { name: /^Disposition DEV-/ }).click();
+	const dialog = page.getByRole('dialog', { name: 'Sign: Reviewed' });
+	await dialog
+		.getByLabel('What was decided and why')
+		.fill(
+			'Low supply pressure during the test; flow repeated at nominal pressure by production: no impact on the valve.'
+		);
+	await dialog.getByLabel('Your password').fill(DEMO_PASSWORD);
+	await dialog.getByRole('button', { name: 'Sign: Reviewed' }).click();
+	await expect(page.getByText('The deviation is dispositioned with your signature.')).toBeVisible();
+
+	await page.reload();
+	await sign(
+		page,
+		`Release ${TAG} to service`,
+		'Released',
+		'Released. The equipment is back In service.'
+	);
+	await expect(page.getByText('Released').first()).toBeVisible();
+	await expect(page.getByText('In service').first()).toBeVisible();
+	await expect(page.getByText('Content changed since signing')).toHaveCount(0);
+	await shot(page, 'work-released');
+
+	const verify = await page.request.get('/api/v1/audit/verify');
+	expect(await verify.json()).toMatchObject({ ok: true, firstBadSeq: null });
+	await page.context().close();
+});
