@@ -89,6 +89,16 @@ test('a Planner plans the diaphragm replacement on the effective procedure versi
 	await expect(page.getByText('Planned').first()).toBeVisible();
 	await expect(page.getByText('MP-DV-01 version 1')).toBeVisible();
 	workUrl = new URL(page.url()).pathname;
+
+	// The plan changes only with a reason; the earlier plan stays listed.
+	await page.getByText('Change the plan (due date, priority, technicians)…').click();
+	await page.getByLabel('Urgent').check();
+	await page.getByRole('button', { name: 'Save the new plan' }).click();
+	await expect(page.getByText('Give a reason: it is kept in the audit trail.')).toBeVisible();
+	await page.getByLabel('Reason for the change').fill('Priority changed by production');
+	await page.getByRole('button', { name: 'Save the new plan' }).click();
+	await expect(page.getByText('Plan changed 1 time')).toBeVisible();
+	await expect(page.getByText('Urgent priority')).toBeVisible();
 	await page.context().close();
 });
 
@@ -329,7 +339,51 @@ test('Quality reviews the trail, dispositions the deviation and releases: In ser
 	await expect(page.getByText('Content changed since signing')).toHaveCount(0);
 	await shot(page, 'work-released');
 
+	// Traceability: the flow meter, the lot and the valve all lead back to this work order.
+	const number = (await page.getByRole('heading', { level: 1 }).textContent())!.match(
+		/WO-\d{4}-\d{4}/
+	)![0];
+	await page.goto('/instruments');
+	await page.getByRole('link', { name: 'FM-01' }).click();
+	await expect(
+		page.getByRole('table', { name: 'Work that used FM-01' }).getByRole('link', { name: number })
+	).toBeVisible();
+	await page.goto('/parts');
+	await page.getByRole('link', { name: 'DIA-040-EP' }).click();
+	const lot = page.getByRole('row').filter({ hasText: 'L25-0630' });
+	await expect(lot.getByRole('link', { name: TAG })).toBeVisible();
+	await expect(lot.getByRole('link', { name: number })).toBeVisible();
+	await shot(page, 'work-lot-traceability');
+	await lot.getByRole('link', { name: TAG }).click();
+	const orders = page.getByRole('region', { name: /^Work orders/ });
+	await expect(orders.getByRole('listitem').filter({ hasText: number })).toContainText('Released');
+
 	const verify = await page.request.get('/api/v1/audit/verify');
 	expect(await verify.json()).toMatchObject({ ok: true, firstBadSeq: null });
 	await page.context().close();
+});
+
+test('two people saving the same step at once: the second is told, and keeps what they typed', async ({
+	browser
+}) => {
+	const first = await signedInPage(browser, 'tech1');
+	const second = await signedInPage(browser, 'tech1');
+	await first.goto('/work?equipment=XV-3103&status=in_progress');
+	await first.getByRole('link', { name: /^WO-/ }).first().click();
+	await first.waitForURL(/\/work\/[0-9a-f-]{36}$/);
+	const url = `${new URL(first.url()).pathname}/steps/fasteners`;
+	await first.goto(url);
+	await second.goto(url);
+	await first.getByLabel('Fasteners replaced').fill('1');
+	await second.getByLabel('Fasteners replaced').fill('2');
+	await save(first);
+	await second.getByRole('button', { name: 'Save the values' }).click();
+	await expect(
+		second.getByRole('alert').filter({ hasText: 'This step changed since you opened it' })
+	).toBeVisible();
+	await expect(second.getByLabel('Fasteners replaced')).toHaveValue('2');
+	await expect(second.getByText('Saved: 1 pcs')).toBeVisible();
+	await shot(second, 'work-execute-stale');
+	await first.context().close();
+	await second.context().close();
 });

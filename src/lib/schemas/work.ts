@@ -70,3 +70,15 @@ export const cancelReasons = [
 	'Equipment taken out of use',
 	'Work no longer needed'
 ] as const;
+
+/** A Planner changes the plan (before the work is executed), with a reason. */
+export const planChangeSchema = workOrderFormSchema
+	.pick({ dueOn: true, priority: true, assignees: true, notes: true })
+	.extend({ reason: reasonSchema, seen: z.number().int().min(0) });
+
+export const planChangeReasons = [
+	'Technician unavailable',
+	'Priority changed by production',
+	'Parts or instruments not available on the date',
+	'Shutdown window moved'
+] as const;

@@ -850,6 +850,13 @@ export type StepSave = {
 	seen: number;
 };
 
+const staleStep = () =>
+	new RecordError(
+		'This step changed since you opened it (someone saved or signed it). What you typed is still in the form: check the step as it is now, then save again.',
+		undefined,
+		409
+	);
+
 /** Refusals of a step save, per field, so that the person sees each beside its input. */
 export class EntryErrors extends RecordError {
 	constructor(
@@ -957,6 +964,8 @@ export async function saveStep(
 	const performedAt = input.performedAt ?? now;
 	const day = siteToday(site.timeZone, performedAt);
 	await mustBeAssignedAndQualified(user, s0, 'enter values on this work order', day);
+	// The expected version first: a person who saw an older step gets 409, not a refusal about values they never saw.
+	if (found.status.revision !== input.seen) throw staleStep();
 	if (performedAt.getTime() > now.getTime() + 60_000)
 		throw new EntryErrors({ performedAt: '“Performed at” cannot be in the future.' });
 	const late = now.getTime() - performedAt.getTime() > LATE_ENTRY_MINUTES * 60_000;
@@ -1031,12 +1040,7 @@ export async function saveStep(
 				409
 			);
 		const step = s.steps.find((x) => x.step.key === stepKey)!;
-		if (step.status.revision !== input.seen)
-			throw new RecordError(
-				'This step changed since you opened it (someone saved or signed it). What you typed is still in the form: check the step as it is now, then save again.',
-				undefined,
-				409
-			);
+		if (step.status.revision !== input.seen) throw staleStep();
 		// After Quality returns the record, verified steps may be corrected (and signed again).
 		const reopened = s.transitions.at(-1)?.kind === 'returned';
 		if (step.status.state === 'verified' && !reopened)

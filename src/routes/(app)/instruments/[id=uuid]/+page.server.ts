@@ -8,6 +8,7 @@ import { newVersionAction, refused } from '$lib/server/forms';
 import * as instruments from '$lib/server/instruments';
 import { currentSite } from '$lib/server/plant';
 import { personOf, RecordError } from '$lib/server/records';
+import { usesOfInstrument } from '$lib/server/work-orders';
 import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async (event) => {
@@ -30,6 +31,11 @@ export const load: PageServerLoad = async (event) => {
 			})),
 			fitness: found.fitness
 		},
+		// Traceability (5/10): every work order step that used it, for when it is found out of tolerance.
+		uses: (await usesOfInstrument(found.id)).map((u) => ({
+			...u,
+			performedAt: u.performedAt.toISOString()
+		})),
 		mayCalibrate: user.roles.includes('planner') || user.roles.includes('quality'),
 		mayChange: user.roles.includes('planner'),
 		calibrationForm: await superValidate(zod4(calibrationSchema), { id: 'calibration' }),

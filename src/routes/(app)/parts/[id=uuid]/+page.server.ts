@@ -8,6 +8,7 @@ import { newVersionAction, refused } from '$lib/server/forms';
 import * as parts from '$lib/server/parts';
 import { currentSite } from '$lib/server/plant';
 import { personOf, RecordError } from '$lib/server/records';
+import { fittingsOfLot } from '$lib/server/work-orders';
 import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async (event) => {
@@ -30,6 +31,11 @@ export const load: PageServerLoad = async (event) => {
 				expired: l.expiresOn !== null && l.expiresOn < today
 			}))
 		},
+		// Traceability (5/10): every equipment each lot was fitted to, through its work orders.
+		fittings: (await fittingsOfLot(found.lots.map((l) => l.id))).map((f) => ({
+			...f,
+			performedAt: f.performedAt.toISOString()
+		})),
 		mayChange: user.roles.includes('planner'),
 		lotForm: await superValidate(
 			{ supplierLot: '', receivedOn: today, expiresOn: null, quantityReceived: 1 },

@@ -6,6 +6,7 @@ import { requireRole } from '$lib/server/auth/guard';
 import { refused } from '$lib/server/forms';
 import * as equipment from '$lib/server/equipment';
 import { personOf, RecordError } from '$lib/server/records';
+import { workOrdersOfEquipment } from '$lib/server/work-orders';
 import type { Actions, PageServerLoad, RequestEvent } from './$types';
 
 export const load: PageServerLoad = async (event) => {
@@ -19,6 +20,9 @@ export const load: PageServerLoad = async (event) => {
 			log: found.log.map((l) => ({ ...l, at: l.at.toISOString() })),
 			statuses: undefined
 		},
+		workOrders: (await workOrdersOfEquipment(found.id)).sort((a, b) =>
+			b.number.localeCompare(a.number)
+		),
 		mayChange: user.roles.includes('planner'),
 		mayQuarantine: user.roles.includes('quality'),
 		quarantineForm: await superValidate(zod4(statusChangeSchema), { id: 'quarantine' })

@@ -5,6 +5,7 @@ import { signSchema } from '$lib/schemas/signature';
 import {
 	cancelSchema,
 	dispositionSchema,
+	planChangeSchema,
 	seenSchema,
 	signWithReasonSchema
 } from '$lib/schemas/work';
@@ -54,6 +55,7 @@ export const load: PageServerLoad = async (event) => {
 		signatures: found.signatures,
 		trail: found.trail.map((e) => ({ ...e, at: e.at.toISOString() })),
 		trailReview: found.trailReview,
+		technicians: roles.includes('planner') ? await work.assignableTechnicians() : [],
 		blockers: work.releaseBlockers(found),
 		revision: seen,
 		firstOpen: firstOpen?.step.key ?? null,
@@ -61,12 +63,26 @@ export const load: PageServerLoad = async (event) => {
 		may: {
 			start: found.status === 'planned' && roles.includes('technician'),
 			cancel: found.status === 'planned' && roles.includes('planner'),
+			plan:
+				(found.status === 'planned' || found.status === 'in_progress') && roles.includes('planner'),
 			execute: found.status === 'in_progress' && roles.includes('technician') && assigned,
 			continue: found.status === 'in_progress' && roles.includes('technician'),
 			quality: found.status === 'executed' && roles.includes('quality')
 		},
 		forms: {
 			start: await superValidate({ seen }, zod4(seenSchema), { id: 'start', errors: false }),
+			plan: await superValidate(
+				{
+					seen,
+					dueOn: found.plan.dueOn,
+					priority: found.plan.priority as 'routine' | 'high' | 'urgent',
+					assignees: found.plan.assignees,
+					notes: found.plan.notes,
+					reason: ''
+				},
+				zod4(planChangeSchema),
+				{ id: 'plan', errors: false }
+			),
 			cancel: await superValidate({ seen, reason: '' }, zod4(cancelSchema), {
 				id: 'cancel',
 				errors: false
@@ -106,6 +122,13 @@ export const actions: Actions = {
 				ok: 'Started: the equipment is now Out of service. Work through the steps in order.'
 			},
 			(user, d) => work.startWorkOrder(user, event.params.id, d.seen, ip(event))
+		),
+	plan: (event) =>
+		recordAction(
+			event,
+			{ schema: planChangeSchema, id: 'plan', role: 'planner', ok: 'The plan is changed.' },
+			(user, { seen, reason, ...plan }) =>
+				work.changePlan(personOf(user), event.params.id, plan, reason, seen, ip(event))
 		),
 	cancel: (event) =>
 		recordAction(
