@@ -387,3 +387,52 @@ test('two people saving the same step at once: the second is told, and keeps wha
 	await first.context().close();
 	await second.context().close();
 });
+
+test('a verifier returns a step with a reason; Quality returns an executed record for correction', async ({
+	browser
+}) => {
+	// tech2 returns step 1 of the demo work waiting for verification on XV-3104.
+	const tech2 = await signedInPage(browser, 'tech2');
+	await tech2.setViewportSize({ width: 820, height: 1180 });
+	const queue = tech2.getByRole('region', { name: /^Steps to verify/ });
+	await queue.getByRole('link', { name: /XV-3104 · step 1:/ }).click();
+	await tech2.getByRole('button', { name: 'Return the step' }).click();
+	await expect(tech2.getByText('Give a reason: it is kept in the audit trail.')).toBeVisible();
+	await tech2
+		.getByLabel('Reason for returning the step')
+		.fill('Value does not match what I see at the equipment');
+	await tech2.getByRole('button', { name: 'Return the step' }).click();
+	await expect(stepState(tech2, 1, 'Returned')).toBeVisible();
+	await expect(tech2.getByText(/^Returned by Ines Calloway:/)).toBeVisible();
+	await tech2.context().close();
+
+	// Quality returns the demo executed work on XV-3101: In progress again, equipment Out of service.
+	const quality = await signedInPage(browser, 'quality');
+	await quality.setViewportSize({ width: 1280, height: 900 });
+	await quality.goto('/work?equipment=XV-3101&status=executed');
+	await quality.getByRole('link', { name: /^WO-/ }).first().click();
+	await quality.getByRole('button', { name: 'Return for correction' }).click();
+	const dialog = quality.getByRole('dialog', { name: 'Sign: Returned' });
+	await dialog.getByLabel('Your password').fill(DEMO_PASSWORD);
+	await dialog.getByRole('button', { name: 'Sign: Returned' }).click();
+	await expect(dialog.getByText('Give a reason: it is kept in the audit trail.')).toBeVisible();
+	await dialog.getByLabel('What must be corrected').fill('The deviation needs more information');
+	await dialog.getByLabel('Your password').fill(DEMO_PASSWORD);
+	await dialog.getByRole('button', { name: 'Sign: Returned' }).click();
+	await expect(dialog).toBeHidden();
+	await expect(
+		quality.getByRole('main').locator('header').getByText('In progress', { exact: true })
+	).toBeVisible();
+	await expect(quality.getByText('Out of service').first()).toBeVisible();
+	await expect(
+		quality.getByRole('note').filter({ hasText: /^Returned by Quentin Aldous/ })
+	).toBeVisible();
+	await shot(quality, 'work-returned');
+
+	// The record prints as a document: no buttons, the steps and signatures stay.
+	await quality.emulateMedia({ media: 'print' });
+	await expect(quality.getByRole('button', { name: /Change the plan|Sign/ })).toHaveCount(0);
+	await expect(quality.getByRole('list', { name: 'Steps' })).toBeVisible();
+	await shot(quality, 'work-record-print');
+	await quality.context().close();
+});
