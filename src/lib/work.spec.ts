@@ -597,10 +597,12 @@ describe('workOrderSignedContent: Executed and Released', () => {
 
 	it('the Released content changes with the disposition and the trail review', () => {
 		const before = workOrderSignedContent(wo, steps, e, s, open, {
-			trailReviewSignatureId: 'sig-t'
+			trailReviewSignatureId: 'sig-t',
+			executedSignatureId: null
 		});
 		const after = workOrderSignedContent(wo, steps, e, s, dispositioned, {
-			trailReviewSignatureId: 'sig-t'
+			trailReviewSignatureId: 'sig-t',
+			executedSignatureId: null
 		});
 		expect(after.type).toBe(RELEASE_RECORD);
 		expect(after).not.toEqual(before);
@@ -609,7 +611,10 @@ describe('workOrderSignedContent: Executed and Released', () => {
 			trailReview: 'sig-t'
 		});
 		expect(
-			workOrderSignedContent(wo, steps, e, s, dispositioned, { trailReviewSignatureId: null })
+			workOrderSignedContent(wo, steps, e, s, dispositioned, {
+				trailReviewSignatureId: null,
+				executedSignatureId: null
+			})
 		).not.toEqual(after);
 	});
 

@@ -133,6 +133,11 @@ export function parseEntry(field: ProcedureField, raw: string): Parsed | null {
 		}
 		case 'text':
 			if (text.length > 2000) return { ok: false, message: 'Keep it under 2000 characters.' };
+			if (text.includes('\u0000') || !text.isWellFormed())
+				return {
+					ok: false,
+					message: 'Use plain text: this has characters the record cannot keep.'
+				};
 			return { ok: true, value: { text } };
 		case 'pass_fail':
 			if (text !== 'pass' && text !== 'fail') return { ok: false, message: 'Choose pass or fail.' };
@@ -356,7 +361,10 @@ export function stepSignedContent(
 					value: e.value,
 					text: valueText(field, e.value),
 					withinLimits: e.withinLimits,
-					performedAt: e.performedAt
+					performedAt: e.performedAt,
+					lateReason: e.lateReason,
+					correctionReason: e.reason,
+					recordedBy: e.recordedBy
 				};
 			})
 		}
@@ -375,7 +383,7 @@ export function workOrderSignedContent(
 	entries: readonly EntryRow[],
 	signoffs: readonly SignoffRow[],
 	deviations: readonly { number: string; dispositionSignatureId: string | null }[],
-	release?: { trailReviewSignatureId: string | null }
+	release?: { trailReviewSignatureId: string | null; executedSignatureId: string | null }
 ) {
 	const execution = {
 		number: wo.number,
@@ -403,6 +411,7 @@ export function workOrderSignedContent(
 				number: d.number,
 				disposition: d.dispositionSignatureId
 			})),
+			executed: release.executedSignatureId,
 			trailReview: release.trailReviewSignatureId
 		}
 	};
@@ -436,6 +445,9 @@ export function deviationSignedContent(d: {
 	fieldKey: string;
 	description: string;
 	entryId: string;
+	/** The value and limits Quality judged, in words. */
+	value: string;
+	limits: string;
 	decision: DeviationDecision;
 	text: string;
 }) {
@@ -448,6 +460,8 @@ export function deviationSignedContent(d: {
 			step: d.stepKey,
 			field: d.fieldKey,
 			entryId: d.entryId,
+			value: d.value,
+			limits: d.limits,
 			description: d.description,
 			disposition: { decision: d.decision, text: d.text }
 		}

@@ -30,7 +30,7 @@ test.describe('home page, Waiting for me', () => {
 		const assigned = page.getByRole('region', { name: /^Work assigned to me/ });
 		await expect(assigned.getByRole('link', { name: /XV-3105/ })).toBeVisible();
 		await expect(page.getByRole('heading', { level: 2, name: /^Steps to verify/ })).toBeVisible();
-		await expect(page.getByText(/Kept up to date · refreshed/)).toBeVisible();
+		await expect(page.getByText(/Kept up to date · refreshed/)).toBeVisible({ timeout: 15_000 });
 		await expect(page.getByRole('complementary', { name: 'Safety notice' })).toContainText(
 			"the manufacturer's instructions and local codes"
 		);

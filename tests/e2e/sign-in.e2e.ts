@@ -15,19 +15,22 @@ import {
 
 const master = ['Plant', 'Procedures', 'Instruments', 'Parts and lots', 'Qualifications'];
 const pagesByRole: Record<string, { sees: string[]; forbidden: string[] }> = {
-	tech1: { sees: ['Waiting for me', ...master], forbidden: ['/people', '/audit', '/plant/new'] },
-	planner: { sees: ['Waiting for me', ...master], forbidden: ['/people'] },
+	tech1: {
+		sees: ['Waiting for me', 'Work', ...master],
+		forbidden: ['/people', '/audit', '/plant/new', '/work/new']
+	},
+	planner: { sees: ['Waiting for me', 'Work', ...master], forbidden: ['/people'] },
 	quality: {
-		sees: ['Waiting for me', ...master, 'Audit trail'],
-		forbidden: ['/people', '/procedures/new']
+		sees: ['Waiting for me', 'Work', ...master, 'Audit trail'],
+		forbidden: ['/people', '/procedures/new', '/work/new']
 	},
 	inspector: {
-		sees: ['Waiting for me', ...master, 'Audit trail'],
-		forbidden: ['/people', '/people/new', '/instruments/new']
+		sees: ['Waiting for me', 'Work', ...master, 'Audit trail'],
+		forbidden: ['/people', '/people/new', '/instruments/new', '/work/new']
 	},
 	admin: {
 		sees: ['Waiting for me', 'People and access'],
-		forbidden: ['/plant', '/audit', '/procedures', '/qualifications']
+		forbidden: ['/plant', '/audit', '/procedures', '/qualifications', '/work']
 	}
 };
 

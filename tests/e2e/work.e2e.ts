@@ -52,7 +52,10 @@ async function performStep(page: Page, position: number) {
 }
 
 async function openStep(page: Page, position: number) {
-	await page.getByRole('link', { name: `${position}`, exact: true }).click();
+	await page
+		.getByRole('navigation', { name: 'Progress through the procedure' })
+		.getByRole('link', { name: new RegExp(`^Step ${position}: `) })
+		.click();
 	await expect(
 		page.getByRole('heading', { level: 1, name: new RegExp(`^${position}\\.`) })
 	).toBeVisible();
@@ -134,7 +137,7 @@ test('tech1 reads every caution, starts the work (Out of service) and executes e
 	await page.getByLabel('Valve body surface temperature').fill('31');
 	await page.getByRole('button', { name: 'Save the values' }).click();
 	await expect(
-		page.getByText('This changes a saved value: give the reason for the correction.')
+		page.getByText('This changes a saved value: give the reason for the correction.').first()
 	).toBeVisible();
 	await page.getByLabel('Reason for correcting the saved value').fill('Typing error at entry');
 	await save(page);
@@ -176,7 +179,9 @@ test('tech1 reads every caution, starts the work (Out of service) and executes e
 		.getByLabel('New diaphragm lot', { exact: true })
 		.selectOption(await optionValue(page, 'New diaphragm lot', /DIA-025-PT/));
 	await page.getByRole('button', { name: 'Save the values' }).click();
-	await expect(page.getByText(/Wrong part: DIA-025-PT is material DM-PTFE-2P/)).toBeVisible();
+	await expect(
+		page.getByText(/Wrong part: DIA-025-PT is material DM-PTFE-2P/).first()
+	).toBeVisible();
 	await shot(page, 'work-execute-wrong-lot');
 	await page
 		.getByLabel('New diaphragm lot', { exact: true })
@@ -226,7 +231,7 @@ test('tech1 reads every caution, starts the work (Out of service) and executes e
 		.check();
 	await page.getByRole('button', { name: 'Save the values' }).click();
 	await expect(
-		page.getByText(/This value is outside its limits: describe what you found/)
+		page.getByText(/This value is outside its limits: describe what you found/).first()
 	).toBeVisible();
 	await page
 		.getByLabel('Outside its limits: describe what you found')

@@ -213,6 +213,39 @@ describe('role × route matrix', () => {
 		expect(await count()).toBe(before);
 	});
 
+	it('bad input to a step save is a clear refusal, never a 500: a broken body, no version, unstorable text', async () => {
+		const path = `/work/${ids.workOrder}/steps/isolate?/save`;
+		const send = (body: BodyInit, type: string) =>
+			fetch(`${app.origin}${path}`, {
+				method: 'POST',
+				redirect: 'manual',
+				headers: {
+					origin: app.origin,
+					accept: 'text/html',
+					cookie: cookies.get('tech1')!,
+					'content-type': type
+				},
+				body
+			});
+		const broken = await send('--x\r\nnot a multipart body', 'multipart/form-data; boundary=x');
+		expect(broken.status).toBe(400);
+		const noVersion = await send(
+			new URLSearchParams({ 'value:loto-permit': 'LP-1' }),
+			'application/x-www-form-urlencoded'
+		);
+		expect(noVersion.status).toBe(400);
+		const nul = await send(
+			new URLSearchParams({ 'value:loto-permit': 'LP\u00001', seen: '0' }),
+			'application/x-www-form-urlencoded'
+		);
+		expect([400, 409]).toContain(nul.status);
+		const huge = await send(
+			new URLSearchParams({ 'value:loto-permit': 'x'.repeat(100_000), seen: '0' }),
+			'application/x-www-form-urlencoded'
+		);
+		expect(huge.status).toBeLessThan(500);
+	});
+
 	it('GET /api/v1/queues answers each person their own queues as JSON', async () => {
 		const res = await get('/api/v1/queues', cookies.get('quality'));
 		expect(res.status).toBe(200);

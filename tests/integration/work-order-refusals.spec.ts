@@ -1260,8 +1260,17 @@ describe('Quality refusals on an executed job with a deviation (XV-3103)', () =>
 		});
 		await expectRefused(
 			id,
-			() =>
-				work.dispositionDeviation(people.techqa!, deviationId, 'accepted', 'No impact.', pw, ip),
+			async () =>
+				work.dispositionDeviation(
+					people.techqa!,
+					id,
+					deviationId,
+					'accepted',
+					'No impact.',
+					pw,
+					await seenOf(id),
+					ip
+				),
 			{
 				status: 403,
 				message: /someone independent of the work must do this/,
@@ -1317,18 +1326,30 @@ describe('Quality refusals on an executed job with a deviation (XV-3103)', () =>
 	it('a disposition: blank → 422 (AT2); a wrong password → 401, audited', async () => {
 		await expectRefused(
 			id,
-			() => work.dispositionDeviation(people.quality!, deviationId, 'accepted', '  ', pw, ip),
+			async () =>
+				work.dispositionDeviation(
+					people.quality!,
+					id,
+					deviationId,
+					'accepted',
+					'  ',
+					pw,
+					await seenOf(id),
+					ip
+				),
 			{ status: 422, field: 'text', message: /Write the disposition: what was decided and why/ }
 		);
 		await expectRefused(
 			id,
-			() =>
+			async () =>
 				work.dispositionDeviation(
 					people.quality!,
+					id,
 					deviationId,
 					'accepted',
 					'No impact.',
 					wrong,
+					await seenOf(id),
 					ip
 				),
 			{
@@ -1370,16 +1391,27 @@ describe('Quality refusals on an executed job with a deviation (XV-3103)', () =>
 	it('dispositioned: dispositioned again → 409', async () => {
 		await work.dispositionDeviation(
 			people.quality!,
+			id,
 			deviationId,
 			'accepted',
 			'Flow measured at low line pressure; repeated at nominal pressure, no impact.',
 			pw,
+			await seenOf(id),
 			ip
 		);
 		await expectRefused(
 			id,
-			() =>
-				work.dispositionDeviation(people.quality!, deviationId, 'capa', 'Second thoughts.', pw, ip),
+			async () =>
+				work.dispositionDeviation(
+					people.quality!,
+					id,
+					deviationId,
+					'capa',
+					'Second thoughts.',
+					pw,
+					await seenOf(id),
+					ip
+				),
 			{ status: 409, message: /already dispositioned/ }
 		);
 	});
@@ -1461,5 +1493,137 @@ describe('two work orders on the same equipment started at the same moment', () 
 		const lost = results.find((r) => r.status === 'rejected') as PromiseRejectedResult;
 		expect((lost.reason as Refusal).status).toBe(409);
 		expect(statuses).toEqual(['in_progress', 'planned']);
+	});
+});
+
+// ── Gaps found in a code review and closed ───────────────────────────────────
+
+describe('review findings: a refusal for each gap that was closed', () => {
+	let a: string;
+	let b: string;
+	beforeAll(async () => {
+		a = await executedJob('XV-3102', { lowFlow: true });
+		b = await executedJob('XV-3108', { lowFlow: true });
+	});
+
+	it('a deviation is dispositioned only on its own work order: another one answers 404 (AC1)', async () => {
+		const deviationOfB = (await view(b)).deviations[0]!.id;
+		await expectRefused(
+			[a, b],
+			() =>
+				work
+					.dispositionDeviation(
+						people.quality!,
+						a,
+						deviationOfB,
+						'accepted',
+						'No impact.',
+						pw,
+						0,
+						ip
+					)
+					.then(async () => undefined),
+			{ status: 404, message: /No such deviation on this work order/ }
+		);
+	});
+
+	it('a disposition over a record that changed since it was shown answers 409', async () => {
+		const v = await view(a);
+		await expectRefused(
+			a,
+			() =>
+				work.dispositionDeviation(
+					people.quality!,
+					a,
+					v.deviations[0]!.id,
+					'accepted',
+					'No impact.',
+					pw,
+					v.revision - 1,
+					ip
+				),
+			{ status: 409, message: /changed since you opened it/ }
+		);
+	});
+
+	it('a trail review over events the reviewer was not shown answers 409 (AT5)', async () => {
+		const v = await view(a);
+		const last = v.trail.at(-1)!.seq;
+		await expectRefused(
+			a,
+			() => work.reviewTrail(people.quality!, a, pw, v.revision, ip, last - 1),
+			{
+				status: 409,
+				message: /New events were added to this record’s audit trail/
+			}
+		);
+	});
+
+	it('a deviation is not dispositioned while the work is still in progress: 409', async () => {
+		const id = await newJob('XV-4206', ['tech1']);
+		await start('tech1', id);
+		const values = await goodValues();
+		await save(
+			'tech1',
+			id,
+			'flow-check',
+			{ ...values['flow-check']!, flow: '30.0' },
+			{
+				deviations: { flow: 'Flow far below its minimum.' }
+			}
+		);
+		const v = await view(id);
+		await expectRefused(
+			id,
+			() =>
+				work.dispositionDeviation(
+					people.quality!,
+					id,
+					v.deviations[0]!.id,
+					'accepted',
+					'No impact.',
+					pw,
+					v.revision,
+					ip
+				),
+			{ status: 409, message: /once the work is executed/ }
+		);
+	});
+
+	it('quarantined equipment cannot start work: Quality ends the quarantine first (409)', async () => {
+		const tag = 'XV-4201';
+		await equipment.changeQuarantine(
+			personOf(people.quality!),
+			await equipmentId(tag),
+			true,
+			'Suspected contamination'
+		);
+		const id = await newJob(tag, ['tech1']);
+		await expectRefused(id, () => start('tech1', id), {
+			status: 409,
+			message: /Quarantined: Quality ends the quarantine/
+		});
+	});
+
+	it('a technician taken off the plan cannot save on it any more: 403', async () => {
+		const id = await newJob('XV-4202', ['tech1', 'techqa']);
+		await start('tech1', id);
+		const v = await view(id);
+		await work.changePlan(
+			planner(),
+			id,
+			{
+				dueOn: v.plan.dueOn,
+				priority: 'high',
+				assignees: [people.techqa!.id],
+				notes: v.plan.notes
+			},
+			'Technician unavailable',
+			v.revision
+		);
+		await expectRefused(id, () => save('tech1', id, 'isolate', { 'loto-permit': 'LP-9' }), {
+			status: 403,
+			message: /not assigned/
+		});
 	});
 });

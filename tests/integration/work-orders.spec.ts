@@ -239,10 +239,12 @@ describe('the diaphragm job from plan to release', () => {
 		const d = await refusal(
 			work.dispositionDeviation(
 				people.techqa!,
+				id,
 				v.deviations[0]!.id,
 				'accepted',
 				'No impact.',
 				pw,
+				(await view(id)).revision,
 				ip
 			)
 		);
@@ -258,10 +260,12 @@ describe('the diaphragm job from plan to release', () => {
 		v = await view(id);
 		await work.dispositionDeviation(
 			people.quality!,
+			id,
 			v.deviations[0]!.id,
 			'accepted',
 			'Flow measured at low line pressure; repeated at nominal pressure by production, no impact.',
 			pw,
+			(await view(id)).revision,
 			ip
 		);
 		v = await view(id);

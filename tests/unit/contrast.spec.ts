@@ -57,6 +57,10 @@ describe('Countersign theme tokens', () => {
 			expect(contrast(token(fg), token(bg))).toBeGreaterThanOrEqual(4.5);
 		});
 	}
+	for (const bg of ['paper', 'sheet'])
+		it(`input borders (rule-strong) stand out from ${bg} by 3:1 (WCAG 2.2 §1.4.11)`, () => {
+			expect(contrast(token('rule-strong'), token(bg))).toBeGreaterThanOrEqual(3);
+		});
 	it('the focus ring (accent) stands out from the ground by 3:1 (WCAG 2.2 §1.4.11)', () => {
 		expect(contrast(token('accent'), token('paper'))).toBeGreaterThanOrEqual(3);
 	});

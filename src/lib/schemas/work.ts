@@ -31,6 +31,9 @@ export const seenSchema = z.object({ seen: z.number().int().min(0) });
 
 export const cancelSchema = seenSchema.extend({ reason: reasonSchema });
 
+/** The trail review names the last audit event the reviewer was shown. */
+export const reviewSchema = signSchema.extend({ through: z.number().int().min(0) });
+
 /** A signature that needs a reason too: Quality returns a record. */
 export const signWithReasonSchema = signSchema.extend({ reason: reasonSchema });
 

@@ -124,6 +124,7 @@ export async function getInstrument(id: string, day: string) {
 	return {
 		id,
 		code: identity.code,
+		siteId: identity.siteId,
 		current,
 		versions,
 		calibrations: cals,

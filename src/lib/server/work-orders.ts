@@ -2,7 +2,7 @@ import { and, asc, desc, eq, inArray, like, or, sql } from 'drizzle-orm';
 import { randomUUID } from 'node:crypto';
 import { equipmentStatusLabels, type EquipmentStatus } from '$lib/equipment';
 import { addDays, siteToday } from '$lib/fitness';
-import type { ProcedureContent, ProcedureField } from '$lib/schemas/procedure';
+import { limitsText, type ProcedureContent, type ProcedureField } from '$lib/schemas/procedure';
 import type { SignatureMeaning } from '$lib/signature-meanings';
 import {
 	deviationSignedContent,
@@ -28,6 +28,7 @@ import {
 	type WorkOrderIdentity,
 	type WorkStatus
 } from '$lib/work';
+import { isStorableText, unstorableTextMessage } from '$lib/schemas/text';
 import { recordEventNow } from './audit/now';
 import type { User } from './auth/guard';
 import { db, type Transaction } from './db/index';
@@ -259,7 +260,13 @@ function workRecord(s: WorkOrderState, forRelease = false): SignedRecord {
 			number: d.number,
 			dispositionSignatureId: d.dispositionSignatureId
 		})),
-		forRelease ? { trailReviewSignatureId: s.trailReview?.signatureId ?? null } : undefined
+		forRelease
+			? {
+					trailReviewSignatureId: s.trailReview?.signatureId ?? null,
+					executedSignatureId:
+						s.transitions.findLast((t) => t.kind === 'executed')?.signatureId ?? null
+				}
+			: undefined
 	);
 }
 
@@ -268,8 +275,10 @@ function stepRecord(s: WorkOrderState, stepKey: string): SignedRecord {
 	return stepSignedContent(s.identity, found.step, found.position, s.entries);
 }
 
-/** The audit events of a work order (its own and its steps'), in order: what a trail review covers. */
-async function trailOf(tx: Transaction, id: string) {
+/** The audit events of a work order (its own, its steps' and its deviations'), in order: what a trail review covers. */
+async function trailOf(tx: Transaction, s: Pick<WorkOrderState, 'wo' | 'deviations'>) {
+	const id = s.wo.id;
+	const deviationIds = s.deviations.map((d) => d.id);
 	return tx
 		.select({
 			seq: auditEvent.seq,
@@ -284,7 +293,13 @@ async function trailOf(tx: Transaction, id: string) {
 			hash: sql<string>`encode(${auditEvent.hash}, 'hex')`
 		})
 		.from(auditEvent)
-		.where(or(eq(auditEvent.entityId, id), like(auditEvent.entityId, `${id}:%`)))
+		.where(
+			or(
+				eq(auditEvent.entityId, id),
+				like(auditEvent.entityId, `${id}:%`),
+				deviationIds.length ? inArray(auditEvent.entityId, deviationIds) : undefined
+			)
+		)
 		.orderBy(asc(auditEvent.seq));
 }
 
@@ -323,7 +338,7 @@ export async function getWorkOrder(id: string) {
 		current.set(`work_order_step:${s.wo.id}:${step.key}`, contentHash(stepRecord(s, step.key)));
 	current.set(`work_order:${s.wo.id}`, contentHash(workRecord(s)));
 	current.set(`work_order_release:${s.wo.id}`, contentHash(workRecord(s, true)));
-	const trail = await trailOf(db(), id);
+	const trail = await trailOf(db(), s);
 	const sigs = signatureRows.map((row) => {
 		let matches: boolean;
 		if (row.recordType === 'work_order_trail') {
@@ -370,6 +385,10 @@ export async function getWorkOrder(id: string) {
 export type WorkOrderView = NonNullable<Awaited<ReturnType<typeof getWorkOrder>>>;
 
 function deviationRecord(s: WorkOrderState, d: WorkOrderState['deviations'][number]) {
+	const field = s.content.steps
+		.find((x) => x.key === d.stepKey)
+		?.fields.find((f) => f.key === d.fieldKey);
+	const entry = s.entries.find((e) => e.id === d.entryId);
 	return deviationSignedContent({
 		id: d.id,
 		number: d.number,
@@ -378,6 +397,8 @@ function deviationRecord(s: WorkOrderState, d: WorkOrderState['deviations'][numb
 		fieldKey: d.fieldKey,
 		description: d.description,
 		entryId: d.entryId,
+		value: field && entry ? valueText(field, entry.value) : '',
+		limits: field ? limitsText(field) : '',
 		decision: (d.decision ?? 'accepted') as DeviationDecision,
 		text: d.dispositionText ?? ''
 	});
@@ -725,6 +746,16 @@ export async function changePlan(
 
 // ── Execution ────────────────────────────────────────────────────────────────
 
+/** Under the work order's lock: still assigned (a plan change may have removed the person meanwhile). */
+function stillAssigned(user: User, s: WorkOrderState) {
+	if (!s.plan.assignees.includes(user.id))
+		throw new RecordError(
+			'You are no longer assigned to this work order: the Planner changed the plan.',
+			undefined,
+			403
+		);
+}
+
 async function mustBeAssignedAndQualified(
 	user: User,
 	s: WorkOrderState,
@@ -790,6 +821,7 @@ export async function startWorkOrder(
 	await db().transaction(async (tx) => {
 		await lockWorkOrder(tx, id);
 		const s = (await loadState(tx, id))!;
+		stillAssigned(user, s);
 		if (s.status !== 'planned')
 			throw new RecordError(
 				`This work order is ${workStatusLabels[s.status]}: only planned work can start.`,
@@ -800,6 +832,12 @@ export async function startWorkOrder(
 		// The equipment's own lock before its status is read: two work orders cannot both take it.
 		await lockEquipment(tx, s.wo.equipmentId);
 		const eqStatus = await currentEquipmentStatus(tx, s.wo.equipmentId);
+		if (eqStatus.status === 'quarantined')
+			throw new RecordError(
+				`${s.wo.equipmentTag} is Quarantined: Quality ends the quarantine (with its reason) before work starts.`,
+				undefined,
+				409
+			);
 		if (
 			(eqStatus.status === 'out_of_service' || eqStatus.status === 'awaiting_release') &&
 			eqStatus.sourceId !== id
@@ -881,6 +919,7 @@ async function resolveValue(
 				partId: partLots.partId,
 				supplierLot: partLots.supplierLot,
 				expiresOn: partLots.expiresOn,
+				receivedOn: partLots.receivedOn,
 				partNumber: parts.partNumber,
 				siteId: parts.siteId
 			})
@@ -903,6 +942,8 @@ async function resolveValue(
 		const wanted = String(ev?.attributes.diaphragmMaterialCode ?? '');
 		if (!pv || pv.materialCode !== wanted)
 			return `Wrong part: ${lot.partNumber} is material ${pv?.materialCode ?? '?'}, ${s.wo.equipmentTag} needs ${wanted || 'a material code set on the equipment'}. Do not fit it.`;
+		if (lot.receivedOn > day)
+			return `Lot ${lot.supplierLot} was received on ${lot.receivedOn}, after the day of this work.`;
 		if (lot.expiresOn && lot.expiresOn < day)
 			return `Lot ${lot.supplierLot} expired on ${lot.expiresOn}: do not fit it.`;
 		return {
@@ -918,7 +959,7 @@ async function resolveValue(
 	}
 	if ('instrumentId' in parsed && !('code' in parsed)) {
 		const found = await getInstrument(parsed.instrumentId, day);
-		if (!found) return 'Choose an instrument from the list.';
+		if (!found || found.siteId !== s.wo.siteId) return 'Choose an instrument from the list.';
 		if (
 			field.instrumentKind &&
 			found.current.kind.toLowerCase() !== field.instrumentKind.toLowerCase()
@@ -968,6 +1009,8 @@ export async function saveStep(
 	if (found.status.revision !== input.seen) throw staleStep();
 	if (performedAt.getTime() > now.getTime() + 60_000)
 		throw new EntryErrors({ performedAt: '“Performed at” cannot be in the future.' });
+	if (!isStorableText(input.lateReason) || input.lateReason.length > 500)
+		throw new EntryErrors({ lateReason: 'Keep the reason under 500 characters, in plain text.' });
 	const late = now.getTime() - performedAt.getTime() > LATE_ENTRY_MINUTES * 60_000;
 	if (late && !input.lateReason.trim())
 		throw new EntryErrors(
@@ -998,7 +1041,7 @@ export async function saveStep(
 	);
 	for (const field of found.step.fields) {
 		if (!enterable(field)) continue;
-		const raw = input.values[field.key] ?? '';
+		const raw = Object.hasOwn(input.values, field.key) ? (input.values[field.key] ?? '') : '';
 		const parsed = parseEntry(field, raw);
 		if (parsed === null) continue;
 		if (!parsed.ok) {
@@ -1011,6 +1054,14 @@ export async function saveStep(
 			continue;
 		}
 		const previous = current.get(field.key) ?? null;
+		for (const [kind, text, max] of [
+			['reason', input.reasons[field.key] ?? '', 500],
+			['deviation', input.deviations[field.key] ?? '', 2000]
+		] as const) {
+			if (!isStorableText(text)) errors[`${kind}:${field.key}`] = unstorableTextMessage;
+			else if (text.length > max)
+				errors[`${kind}:${field.key}`] = `Keep it under ${max} characters.`;
+		}
 		if (previous && JSON.stringify(previous.value) === JSON.stringify(resolved.value)) continue;
 		const within = withinLimits(field, resolved.value);
 		if (previous && !(input.reasons[field.key] ?? '').trim()) {
@@ -1031,6 +1082,7 @@ export async function saveStep(
 	return db().transaction(async (tx) => {
 		await lockWorkOrder(tx, id);
 		const s = (await loadState(tx, id))!;
+		stillAssigned(user, s);
 		if (s.status !== 'in_progress')
 			throw new RecordError(
 				s.status === 'planned'
@@ -1237,6 +1289,7 @@ export async function performStep(
 		await lockWorkOrder(tx, id);
 		const s = (await loadState(tx, id))!;
 		check(s);
+		stillAssigned(user, s);
 		const signature = await recordSignature(
 			tx,
 			user,
@@ -1358,14 +1411,24 @@ export async function verifyStep(
 				409
 			);
 	};
-	check(s0);
 	await mustBeVerifier(user, s0, stepKey, siteToday(site.timeZone), 'verified', clientAddress);
+	check(s0);
 	const record = stepRecord(s0, stepKey);
 	await reauthenticate(user, password, { record, meaning: 'verified' }, clientAddress);
 	return db().transaction(async (tx) => {
 		await lockWorkOrder(tx, id);
 		const s = (await loadState(tx, id))!;
 		check(s);
+		const step = s.steps.find((x) => x.step.key === stepKey)!;
+		if (
+			step.status.performed?.recordedBy === user.id ||
+			s.entries.some((e) => e.stepKey === stepKey && e.recordedBy === user.id)
+		)
+			throw new RecordError(
+				'You performed or entered this step: a second person must verify it.',
+				undefined,
+				403
+			);
 		const signature = await recordSignature(
 			tx,
 			user,
@@ -1450,6 +1513,8 @@ export async function completeExecution(
 		await lockWorkOrder(tx, id);
 		const s = (await loadState(tx, id))!;
 		check(s);
+		stillAssigned(user, s);
+		await lockEquipment(tx, s.wo.equipmentId);
 		const signature = await recordSignature(tx, user, workRecord(s), 'executed', clientAddress);
 		await transition(tx, user, s, 'executed', signature, null, clientAddress);
 		await setStatus(
@@ -1501,6 +1566,16 @@ async function transition(
 
 // ── Quality ──────────────────────────────────────────────────────────────────
 
+/** Whether a person had a hand in the work (what Quality's independence rules out). */
+export const tookPart = (s: WorkOrderState, personId: string) => hands(s).has(personId);
+
+const tookPartError = () =>
+	new RecordError(
+		'You took part in this work (started it, entered values, or signed steps or the execution): someone independent of the work must do this.',
+		undefined,
+		403
+	);
+
 /** Quality's independence from the work (ES8, AT6): no entry, no Performed or Verified signature on it. */
 async function mustBeIndependent(
 	user: User,
@@ -1528,10 +1603,20 @@ export async function reviewTrail(
 	id: string,
 	password: string,
 	seen: number,
-	clientAddress: string | null = null
+	clientAddress: string | null = null,
+	/** The last audit event the reviewer was shown: a later one (even a refusal) means they have not seen it all. */
+	seenThroughSeq?: number
 ) {
 	const s0 = await loadState(db(), id);
 	if (!s0) throw new RecordError('No such work order.', undefined, 404);
+	const unseenEvents = (events: { seq: number }[]) => {
+		if (seenThroughSeq !== undefined && (events.at(-1)?.seq ?? 0) !== seenThroughSeq)
+			throw new RecordError(
+				'New events were added to this record’s audit trail since you opened it. The page now shows them: read them, then sign.',
+				undefined,
+				409
+			);
+	};
 	const check = (s: WorkOrderState) => {
 		if (s.status !== 'executed')
 			throw new RecordError('The trail is reviewed once the work is executed.', undefined, 409);
@@ -1539,15 +1624,19 @@ export async function reviewTrail(
 			throw new RecordError('The trail review is already recorded.', undefined, 409);
 		mustBeUnchanged(s, seen);
 	};
-	check(s0);
-	const record0 = trailSignedContent(s0.identity, await trailOf(db(), id));
+	const events0 = await trailOf(db(), s0);
+	const record0 = trailSignedContent(s0.identity, events0);
 	await mustBeIndependent(user, s0, record0, 'reviewed', 'review work orders', clientAddress);
+	check(s0);
+	unseenEvents(events0);
 	await reauthenticate(user, password, { record: record0, meaning: 'reviewed' }, clientAddress);
 	return db().transaction(async (tx) => {
 		await lockWorkOrder(tx, id);
 		const s = (await loadState(tx, id))!;
 		check(s);
-		const events = await trailOf(tx, id);
+		if (hands(s).has(user.id)) throw tookPartError();
+		const events = await trailOf(tx, s);
+		unseenEvents(events);
 		const record = trailSignedContent(s.identity, events);
 		const signature = await recordSignature(tx, user, record, 'reviewed', clientAddress);
 		await transition(tx, user, s, 'trail_reviewed', signature, null, clientAddress, {
@@ -1561,32 +1650,45 @@ export async function reviewTrail(
 /** Quality dispositions a deviation with a Reviewed signature over its words. */
 export async function dispositionDeviation(
 	user: User,
+	workOrderId: string,
 	deviationId: string,
 	decision: DeviationDecision,
 	text: string,
 	password: string,
+	seen: number,
 	clientAddress: string | null = null
 ) {
 	if (!text.trim())
 		throw new RecordError('Write the disposition: what was decided and why.', 'text', 422);
-	const [d0] = await db()
-		.select({ workOrderId: deviations.workOrderId })
-		.from(deviations)
-		.where(eq(deviations.id, deviationId));
-	if (!d0) throw new RecordError('No such deviation.', undefined, 404);
-	const s0 = (await loadState(db(), d0.workOrderId))!;
-	const dev0 = s0.deviations.find((d) => d.id === deviationId)!;
+	const s0 = await loadState(db(), workOrderId);
+	const dev0 = s0?.deviations.find((d) => d.id === deviationId);
+	if (!s0 || !dev0) throw new RecordError('No such deviation on this work order.', undefined, 404);
 	const record0 = deviationRecord(s0, { ...dev0, decision, dispositionText: text.trim() });
 	await mustBeIndependent(user, s0, record0, 'reviewed', 'disposition deviations', clientAddress);
-	if (dev0.dispositionId)
-		throw new RecordError('This deviation is already dispositioned.', undefined, 409);
-	await reauthenticate(user, password, { record: record0, meaning: 'reviewed' }, clientAddress);
-	return db().transaction(async (tx) => {
-		await lockWorkOrder(tx, d0.workOrderId);
-		const s = (await loadState(tx, d0.workOrderId))!;
-		const dev = s.deviations.find((d) => d.id === deviationId)!;
+	const check = (s: WorkOrderState, dev: typeof dev0) => {
+		if (s.status !== 'executed')
+			throw new RecordError(
+				'Deviations are dispositioned once the work is executed, with the whole record.',
+				undefined,
+				409
+			);
 		if (dev.dispositionId)
 			throw new RecordError('This deviation is already dispositioned.', undefined, 409);
+		mustBeUnchanged(s, seen);
+	};
+	check(s0, dev0);
+	await reauthenticate(user, password, { record: record0, meaning: 'reviewed' }, clientAddress);
+	return db().transaction(async (tx) => {
+		await lockWorkOrder(tx, workOrderId);
+		const s = (await loadState(tx, workOrderId))!;
+		const dev = s.deviations.find((d) => d.id === deviationId)!;
+		check(s, dev);
+		if (hands(s).has(user.id))
+			throw new RecordError(
+				'You took part in this work: someone independent of it must disposition the deviation.',
+				undefined,
+				403
+			);
 		const record = deviationRecord(s, { ...dev, decision, dispositionText: text.trim() });
 		const signature = await recordSignature(tx, user, record, 'reviewed', clientAddress);
 		const rec = await appendRecordEvent(tx, personOf(user), {
@@ -1666,6 +1768,8 @@ export async function releaseWorkOrder(
 		await lockWorkOrder(tx, id);
 		const s = (await loadState(tx, id))!;
 		check(s);
+		await lockEquipment(tx, s.wo.equipmentId);
+		if (hands(s).has(user.id)) throw tookPartError();
 		const signature = await recordSignature(
 			tx,
 			user,
@@ -1723,6 +1827,8 @@ export async function returnWorkOrder(
 		await lockWorkOrder(tx, id);
 		const s = (await loadState(tx, id))!;
 		check(s);
+		await lockEquipment(tx, s.wo.equipmentId);
+		if (hands(s).has(user.id)) throw tookPartError();
 		const signature = await recordSignature(tx, user, workRecord(s), 'returned', clientAddress);
 		await transition(tx, user, s, 'returned', signature, reason.trim(), clientAddress);
 		await setStatus(

@@ -6,6 +6,7 @@ import {
 	cancelSchema,
 	dispositionSchema,
 	planChangeSchema,
+	reviewSchema,
 	seenSchema,
 	signWithReasonSchema
 } from '$lib/schemas/work';
@@ -28,12 +29,7 @@ export const load: PageServerLoad = async (event) => {
 	const seen = found.revision;
 	const roles = user.roles;
 	const assigned = found.plan.assignees.includes(user.id);
-	const tookPart = new Set(
-		[
-			...found.entries.map((e) => e.recordedBy),
-			...found.signoffs.filter((s) => s.kind !== 'returned').map((s) => s.recordedBy)
-		].filter(Boolean)
-	).has(user.id);
+	const tookPart = work.tookPart(found, user.id);
 	const qualified =
 		roles.includes('technician') && (await isQualified(user.id, found.wo.procedureId, today));
 	const sign = (id: string) =>
@@ -88,7 +84,11 @@ export const load: PageServerLoad = async (event) => {
 				errors: false
 			}),
 			execute: await sign('execute'),
-			review: await sign('review'),
+			review: await superValidate(
+				{ password: '', seen, through: found.trail.at(-1)?.seq ?? 0 },
+				zod4(reviewSchema),
+				{ id: 'review', errors: false }
+			),
 			release: await sign('release'),
 			return: await superValidate({ password: '', seen, reason: '' }, zod4(signWithReasonSchema), {
 				id: 'return',
@@ -152,12 +152,12 @@ export const actions: Actions = {
 		recordAction(
 			event,
 			{
-				schema: signSchema,
+				schema: reviewSchema,
 				id: 'review',
 				role: 'quality',
 				ok: 'The review of the audit trail is recorded with your signature.'
 			},
-			(user, d) => work.reviewTrail(user, event.params.id, d.password, d.seen, ip(event))
+			(user, d) => work.reviewTrail(user, event.params.id, d.password, d.seen, ip(event), d.through)
 		),
 	release: (event) =>
 		recordAction(
@@ -182,10 +182,9 @@ export const actions: Actions = {
 			(user, d) =>
 				work.returnWorkOrder(user, event.params.id, d.reason, d.password, d.seen, ip(event))
 		),
-	disposition: async (event) => {
-		// Each open deviation has its own form (id disposition-<deviation id>).
-		const body = await event.request.clone().formData();
-		const deviationId = String(body.get('deviationId') ?? '');
+	disposition: (event) => {
+		// Each open deviation has its own form (id disposition-<deviation id>), named in the URL.
+		const deviationId = event.url.searchParams.get('deviation') ?? '';
 		return recordAction(
 			event,
 			{
@@ -195,7 +194,16 @@ export const actions: Actions = {
 				ok: 'The deviation is dispositioned with your signature.'
 			},
 			(user, d) =>
-				work.dispositionDeviation(user, d.deviationId, d.decision, d.text, d.password, ip(event))
+				work.dispositionDeviation(
+					user,
+					event.params.id,
+					d.deviationId,
+					d.decision,
+					d.text,
+					d.password,
+					d.seen,
+					ip(event)
+				)
 		);
 	}
 };

@@ -110,13 +110,28 @@ export const actions: Actions = {
 	/** The step's entries: a plain form (its fields come from the procedure), read field by field. */
 	save: async (event) => {
 		const user = await requireRole(event, 'technician');
-		const body = await event.request.formData();
-		const values: Record<string, string> = {};
-		const reasons: Record<string, string> = {};
-		const deviations: Record<string, string> = {};
+		let body: FormData;
+		try {
+			body = await event.request.formData();
+		} catch {
+			return fail(400, {
+				typed: {} as Record<string, string>,
+				errors: { form: 'The form could not be read: reload the page.' }
+			});
+		}
+		// Keyed by field keys from the procedure: no prototype, so a key like "constructor" is just a key.
+		const values: Record<string, string> = Object.create(null);
+		const reasons: Record<string, string> = Object.create(null);
+		const deviations: Record<string, string> = Object.create(null);
 		const typed: Record<string, string> = {};
+		const tooLong: Record<string, string> = {};
 		for (const [name, v] of body) {
-			if (typeof v !== 'string' || v.length > 5000) continue;
+			if (typeof v !== 'string') continue;
+			if (v.length > 5000) {
+				tooLong[name.split(':', 2)[1] ?? name] =
+					'That is too long for this field: keep it under 2000 characters.';
+				continue;
+			}
 			typed[name] = v;
 			const [kind, key] = name.split(':', 2) as [string, string | undefined];
 			if (!key) continue;
@@ -124,13 +139,15 @@ export const actions: Actions = {
 			else if (kind === 'reason') reasons[key] = v;
 			else if (kind === 'deviation') deviations[key] = v;
 		}
+		if (Object.keys(tooLong).length) return fail(400, { typed, errors: tooLong });
 		const site = (await currentSite())!;
 		const at = String(body.get('performedAt') ?? '').trim();
 		const performedAt = at ? fromLocalInput(at, site.timeZone) : null;
 		if (at && !performedAt)
 			return fail(400, { typed, errors: { performedAt: 'Enter the date and time it was done.' } });
-		const seen = Number(body.get('seen'));
-		if (!Number.isInteger(seen) || seen < 0)
+		const seenText = String(body.get('seen') ?? '');
+		const seen = Number(seenText);
+		if (!/^\d{1,9}$/.test(seenText))
 			return fail(400, { typed, errors: { form: 'Reload the page and enter the values again.' } });
 		try {
 			const saved = await work.saveStep(
