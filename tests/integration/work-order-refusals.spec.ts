@@ -1,18 +1,15 @@
 import { afterAll, beforeAll, describe, expect, it, vi } from 'vitest';
-import { addDays, siteToday } from '../../src/lib/fitness';
+import { addDays } from '../../src/lib/fitness';
 import type { User } from '../../src/lib/server/auth/guard';
-import { seedDemoMasterData } from '../../src/lib/server/db/demo/index';
 import { retighteningCheck } from '../../src/lib/server/db/demo/procedures';
-import { DEMO_PASSWORD, seedDemoAccounts, seedDemoPlant } from '../../src/lib/server/db/seed';
+import { DEMO_PASSWORD } from '../../src/lib/server/db/seed';
 import * as equipment from '../../src/lib/server/equipment';
 import * as instruments from '../../src/lib/server/instruments';
-import * as parts from '../../src/lib/server/parts';
-import { currentSite } from '../../src/lib/server/plant';
 import * as procedures from '../../src/lib/server/procedures';
-import { recordQualification } from '../../src/lib/server/qualifications';
 import { personOf, type Recorder } from '../../src/lib/server/records';
 import * as work from '../../src/lib/server/work-orders';
-import { appDatabase, setEnv } from './helpers/app-database';
+import type { appDatabase } from './helpers/app-database';
+import { stepActions, workDatabase } from './helpers/work';
 
 // Every refusal of the work-order module (issue 5/10): each is a clear message, stores nothing,
 // and — where it is a security event — is audited (REQUIREMENTS AC1, AC3, AC4, AT2, AT5, AT6,
@@ -29,42 +26,15 @@ const pw = DEMO_PASSWORD;
 const wrong = 'not-the-password-9';
 const planner = () => personOf(people.planner!);
 
+let lotOf: (partNumber: string, lot: string) => Promise<string>;
+let goodValues: () => Promise<Record<string, Record<string, string>>>;
+
 beforeAll(async () => {
-	t = await appDatabase();
-	setEnv({ AUTH_LOCKOUT_FAILURES: '5' });
-	await seedDemoPlant(t.owner);
-	await seedDemoAccounts(t.owner);
-	// A third technician, not trained on anything, and one who is both technician and quality.
-	await t.ownerSql`insert into accounts (username, full_name, email, roles, password_hash)
-		select 'tech3', 'Ines Varga', 'tech3@ostmere.example', array['technician'], password_hash
-		from accounts where username = 'tech1'`;
-	await t.ownerSql`insert into accounts (username, full_name, email, roles, password_hash)
-		select 'techqa', 'Rui Okafor', 'techqa@ostmere.example', array['technician', 'quality'], password_hash
-		from accounts where username = 'tech1'`;
-	for (const row of await t.ownerSql`select id, username, full_name, email, roles from accounts`)
-		people[row.username] = {
-			id: row.id,
-			username: row.username,
-			name: row.full_name,
-			email: row.email,
-			roles: row.roles,
-			mustChangePassword: false
-		};
-	await seedDemoMasterData(DEMO_PASSWORD);
-	const site = (await currentSite())!;
-	siteId = site.id;
-	today = siteToday(site.timeZone);
 	// techqa is trained on the diaphragm and the pump procedures, so that only segregation of
 	// duties can stop them; tech2's pump training stays lapsed (demo data).
-	for (const code of ['MP-DV-01', 'MP-PU-01'])
-		await recordQualification(planner(), {
-			accountId: people.techqa!.id,
-			procedureId: (await procedures.findProcedureByCode(code))!,
-			trainedOn: today,
-			expiresOn: addDays(today, 365),
-			trainer: 'Site trainer',
-			note: ''
-		});
+	const w = await workDatabase(['MP-DV-01', 'MP-PU-01']);
+	({ t, siteId, today, lotOf, goodValues } = w);
+	Object.assign(people, w.people);
 	// Calipers that must not be used: calibration expired, withdrawn from use, never calibrated.
 	const caliper = {
 		kind: 'Caliper',
@@ -207,40 +177,12 @@ async function newJob(tag: string, assignees: string[], code = 'MP-DV-01') {
 	});
 	return created.id;
 }
-const view = async (id: string) => (await work.getWorkOrder(id))!;
+const { view, stepSeen, save, perform, verify } = stepActions(people, ip);
 const seenOf = async (id: string) => (await view(id)).revision;
-const stepSeen = async (id: string, key: string) =>
-	(await view(id)).steps.find((s) => s.step.key === key)!.status.revision;
 const stepState = async (id: string, key: string) =>
 	(await view(id)).steps.find((s) => s.step.key === key)!.status.state;
 const start = async (who: string, id: string) =>
 	work.startWorkOrder(people[who]!, id, await seenOf(id), ip);
-const save = async (
-	who: string,
-	id: string,
-	key: string,
-	values: Record<string, string>,
-	more: Partial<work.StepSave> = {}
-) =>
-	work.saveStep(
-		people[who]!,
-		id,
-		key,
-		{
-			values,
-			reasons: {},
-			deviations: {},
-			performedAt: null,
-			lateReason: '',
-			seen: await stepSeen(id, key),
-			...more
-		},
-		ip
-	);
-const perform = async (who: string, id: string, key: string, password = pw) =>
-	work.performStep(people[who]!, id, key, password, await stepSeen(id, key), ip);
-const verify = async (who: string, id: string, key: string, password = pw) =>
-	work.verifyStep(people[who]!, id, key, password, await stepSeen(id, key), ip);
 const complete = async (who: string, id: string, password = pw) =>
 	work.completeExecution(people[who]!, id, password, await seenOf(id), ip);
 const review = async (who: string, id: string, password = pw) =>
@@ -248,46 +190,10 @@ const review = async (who: string, id: string, password = pw) =>
 const release = async (who: string, id: string, password = pw) =>
 	work.releaseWorkOrder(people[who]!, id, password, await seenOf(id), ip);
 
-async function lotOf(partNumber: string, lot: string) {
-	const list = await parts.listParts(siteId);
-	const part = await parts.getPart(list.find((p) => p.partNumber === partNumber)!.id);
-	return part!.lots.find((l) => l.supplierLot === lot)!.id;
-}
 async function instrumentOf(code: string) {
 	return (await instruments.listInstruments(siteId, today)).find((i) => i.code === code)!.id;
 }
 const verifiedSteps = ['isolate', 'new-diaphragm', 'flow-check'];
-
-/** The values of every step of MP-DV-01 that pass, by step key (as in the journey test). */
-async function goodValues(): Promise<Record<string, Record<string, string>>> {
-	return {
-		isolate: { 'loto-permit': 'LP-0042', depressurised: 'pass', 'surface-temperature': '31' },
-		'as-found': { 'as-found-condition': 'Leak at the bonnet' },
-		'limiter-before': {
-			'limiter-instrument': await instrumentOf('CA-01'),
-			'limiter-as-found': '12.5'
-		},
-		actuator: { 'actuator-air': 'Opened with control air (spring-to-close)' },
-		fasteners: { 'fasteners-replaced': '0' },
-		seat: { 'seat-condition': 'Cleaned, undamaged' },
-		'new-diaphragm': { 'diaphragm-lot': await lotOf('DIA-025-EP', 'L25-0412') },
-		reassemble: { 'port-orientation': 'pass' },
-		tighten: {
-			'thickness-instrument': await instrumentOf('TG-01'),
-			'thickness-before': '4.20',
-			'thickness-after': '3.65',
-			'torque-instrument': await instrumentOf('TW-01'),
-			tightening: 'completed'
-		},
-		'limiter-after': { 'limiter-as-left': '12.5', 'limiter-matches': 'pass' },
-		'flow-check': {
-			'flow-instrument': await instrumentOf('FM-01'),
-			flow: '52.0',
-			'no-leak': 'pass'
-		},
-		return: { 'locks-removed': 'pass' }
-	};
-}
 
 /** Starts a diaphragm job and takes it to In progress with every step done, then signs it Executed. */
 async function executedJob(

@@ -1,62 +1,30 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { addDays, siteToday } from '../../src/lib/fitness';
+import { addDays } from '../../src/lib/fitness';
 import { verifyChain } from '../../src/lib/server/audit/verify';
 import type { User } from '../../src/lib/server/auth/guard';
-import { seedDemoMasterData } from '../../src/lib/server/db/demo/index';
-import { DEMO_PASSWORD, seedDemoAccounts, seedDemoPlant } from '../../src/lib/server/db/seed';
+import { DEMO_PASSWORD } from '../../src/lib/server/db/seed';
 import * as equipment from '../../src/lib/server/equipment';
-import * as instruments from '../../src/lib/server/instruments';
-import * as parts from '../../src/lib/server/parts';
-import { currentSite } from '../../src/lib/server/plant';
 import * as procedures from '../../src/lib/server/procedures';
 import { personOf } from '../../src/lib/server/records';
 import * as work from '../../src/lib/server/work-orders';
-import { appDatabase, setEnv } from './helpers/app-database';
+import type { appDatabase } from './helpers/app-database';
+import { stepActions, workDatabase } from './helpers/work';
 
 // Work orders from plan to release (issue 5/10; REQUIREMENTS ES3, ES4, ES8, AT2, AT5, AC4, DI1,
 // DI3, DI4, MR1, MR3, MR4, SE11). Real PostgreSQL, the demo master data, the domain functions.
 let t: Awaited<ReturnType<typeof appDatabase>>;
-let siteId: string;
 let today: string;
 const people: Record<string, User> = {};
 const ip = '198.51.100.50';
 const pw = DEMO_PASSWORD;
 
+let lotOf: (partNumber: string, lot: string) => Promise<string>;
+let goodValues: () => Promise<Record<string, Record<string, string>>>;
+
 beforeAll(async () => {
-	t = await appDatabase();
-	setEnv({ AUTH_LOCKOUT_FAILURES: '5' });
-	await seedDemoPlant(t.owner);
-	await seedDemoAccounts(t.owner);
-	// A third technician, not trained on anything, and one who is both technician and quality.
-	await t.ownerSql`insert into accounts (username, full_name, email, roles, password_hash)
-		select 'tech3', 'Ines Varga', 'tech3@ostmere.example', array['technician'], password_hash
-		from accounts where username = 'tech1'`;
-	await t.ownerSql`insert into accounts (username, full_name, email, roles, password_hash)
-		select 'techqa', 'Rui Okafor', 'techqa@ostmere.example', array['technician', 'quality'], password_hash
-		from accounts where username = 'tech1'`;
-	for (const row of await t.ownerSql`select id, username, full_name, email, roles from accounts`)
-		people[row.username] = {
-			id: row.id,
-			username: row.username,
-			name: row.full_name,
-			email: row.email,
-			roles: row.roles,
-			mustChangePassword: false
-		};
-	await seedDemoMasterData(DEMO_PASSWORD);
-	const site = (await currentSite())!;
-	siteId = site.id;
-	today = siteToday(site.timeZone);
-	// techqa is trained on the diaphragm procedure, so that only segregation of duties can stop them.
-	const { recordQualification } = await import('../../src/lib/server/qualifications');
-	await recordQualification(personOf(people.planner!), {
-		accountId: people.techqa!.id,
-		procedureId: (await procedures.findProcedureByCode('MP-DV-01'))!,
-		trainedOn: today,
-		expiresOn: addDays(today, 365),
-		trainer: 'Site trainer',
-		note: ''
-	});
+	const w = await workDatabase(['MP-DV-01']);
+	({ t, today, lotOf, goodValues } = w);
+	Object.assign(people, w.people);
 });
 afterAll(async () => t?.drop());
 
@@ -80,75 +48,7 @@ async function newJob(tag = 'XV-3104', assignees = ['tech1', 'techqa']) {
 		notes: 'Leak at the bonnet reported by production.'
 	});
 }
-const view = async (id: string) => (await work.getWorkOrder(id))!;
-const stepSeen = async (id: string, key: string) =>
-	(await view(id)).steps.find((s) => s.step.key === key)!.status.revision;
-const save = async (
-	who: string,
-	id: string,
-	key: string,
-	values: Record<string, string>,
-	more: Partial<work.StepSave> = {}
-) =>
-	work.saveStep(
-		people[who]!,
-		id,
-		key,
-		{
-			values,
-			reasons: {},
-			deviations: {},
-			performedAt: null,
-			lateReason: '',
-			seen: await stepSeen(id, key),
-			...more
-		},
-		ip
-	);
-const perform = async (who: string, id: string, key: string, password = pw) =>
-	work.performStep(people[who]!, id, key, password, await stepSeen(id, key), ip);
-const verify = async (who: string, id: string, key: string) =>
-	work.verifyStep(people[who]!, id, key, pw, await stepSeen(id, key), ip);
-
-async function lotOf(partNumber: string, lot: string) {
-	const list = await parts.listParts(siteId);
-	const part = await parts.getPart(list.find((p) => p.partNumber === partNumber)!.id);
-	return part!.lots.find((l) => l.supplierLot === lot)!.id;
-}
-async function instrumentOf(code: string) {
-	return (await instruments.listInstruments(siteId, today)).find((i) => i.code === code)!.id;
-}
-
-/** The values of every step of MP-DV-01 that pass, by step key. */
-async function goodValues(): Promise<Record<string, Record<string, string>>> {
-	return {
-		isolate: { 'loto-permit': 'LP-0042', depressurised: 'pass', 'surface-temperature': '31' },
-		'as-found': { 'as-found-condition': 'Leak at the bonnet' },
-		'limiter-before': {
-			'limiter-instrument': await instrumentOf('CA-01'),
-			'limiter-as-found': '12.5'
-		},
-		actuator: { 'actuator-air': 'Opened with control air (spring-to-close)' },
-		fasteners: { 'fasteners-replaced': '0' },
-		seat: { 'seat-condition': 'Cleaned, undamaged' },
-		'new-diaphragm': { 'diaphragm-lot': '' },
-		reassemble: { 'port-orientation': 'pass' },
-		tighten: {
-			'thickness-instrument': await instrumentOf('TG-01'),
-			'thickness-before': '4.20',
-			'thickness-after': '3.65',
-			'torque-instrument': await instrumentOf('TW-01'),
-			tightening: 'completed'
-		},
-		'limiter-after': { 'limiter-as-left': '12.5', 'limiter-matches': 'pass' },
-		'flow-check': {
-			'flow-instrument': await instrumentOf('FM-01'),
-			flow: '52.0',
-			'no-leak': 'pass'
-		},
-		return: { 'locks-removed': 'pass' }
-	};
-}
+const { view, save, perform, verify } = stepActions(people, ip);
 
 describe('the diaphragm job from plan to release', () => {
 	let id: string;

@@ -1,6 +1,5 @@
 import { sql } from 'drizzle-orm';
 import {
-	bigint,
 	boolean,
 	check,
 	date,
@@ -16,6 +15,7 @@ import {
 } from 'drizzle-orm/pg-core';
 import type { ProcedureContent } from '../../../schemas/procedure';
 import { accounts } from './accounts';
+import { recorded } from './columns';
 import { areas, sites } from './plant';
 import { signatures } from './signatures';
 
@@ -27,12 +27,6 @@ import { signatures } from './signatures';
  * event that records it (`audit_seq`), who recorded it (id and printed name) and when
  * (database clock, from that event).
  */
-const recorded = () => ({
-	recordedBy: uuid('recorded_by').references(() => accounts.id),
-	recordedByName: text('recorded_by_name').notNull(),
-	recordedAt: timestamp('recorded_at', { withTimezone: true, precision: 3 }).notNull(),
-	auditSeq: bigint('audit_seq', { mode: 'number' }).notNull()
-});
 
 // ── Equipment ────────────────────────────────────────────────────────────────
 

@@ -1,6 +1,5 @@
 import { sql } from 'drizzle-orm';
 import {
-	bigint,
 	boolean,
 	check,
 	date,
@@ -14,7 +13,7 @@ import {
 	uuid
 } from 'drizzle-orm/pg-core';
 import type { EntryValue } from '../../../work';
-import { accounts } from './accounts';
+import { recorded } from './columns';
 import { equipment, instruments, partLots, procedureVersions } from './master';
 import { sites } from './plant';
 import { signatures } from './signatures';
@@ -25,12 +24,6 @@ import { signatures } from './signatures';
  * signoffs of each step, deviations and their dispositions. The current state follows from the
  * rows (src/lib/work.ts); nothing is updated. Each row names its audit event.
  */
-const recorded = () => ({
-	recordedBy: uuid('recorded_by').references(() => accounts.id),
-	recordedByName: text('recorded_by_name').notNull(),
-	recordedAt: timestamp('recorded_at', { withTimezone: true, precision: 3 }).notNull(),
-	auditSeq: bigint('audit_seq', { mode: 'number' }).notNull()
-});
 
 export const workOrders = pgTable(
 	'work_orders',
