@@ -389,6 +389,14 @@ test('two people saving the same step at once: the second is told, and keeps wha
 	await expect(second.getByLabel('Fasteners replaced')).toHaveValue('2');
 	await expect(second.getByText('Saved: 1 pcs')).toBeVisible();
 	await shot(second, 'work-execute-stale');
+	// A phone at the equipment: nothing scrolls sideways on the Execute screen or the record.
+	await second.setViewportSize({ width: 390, height: 844 });
+	await expectNoHorizontalScroll(second);
+	await shot(second, 'work-execute-phone');
+	await second.goto(url.replace(/\/steps\/fasteners$/, ''));
+	await expectNoHorizontalScroll(second);
+	await second.goto('/work');
+	await expectNoHorizontalScroll(second);
 	await first.context().close();
 	await second.context().close();
 });
