@@ -65,6 +65,7 @@ import {
 	needReason,
 	personOf,
 	RecordError,
+	refuse,
 	type Recorder
 } from './records';
 import {
@@ -418,6 +419,8 @@ async function currentEquipmentStatus(tx: Transaction, equipmentId: string) {
 }
 
 export type WorkListFilter = {
+	/** One piece of equipment (its page); `equipment` is a tag search. */
+	equipmentId?: string;
 	status?: WorkStatus | '';
 	equipment?: string;
 	kind?: WorkKind | '';
@@ -445,7 +448,12 @@ export async function listWorkOrders(siteId: string, filter: WorkListFilter = {}
 		.innerJoin(equipment, eq(equipment.id, workOrders.equipmentId))
 		.innerJoin(procedureVersions, eq(procedureVersions.id, workOrders.procedureVersionId))
 		.innerJoin(procedures, eq(procedures.id, procedureVersions.procedureId))
-		.where(eq(workOrders.siteId, siteId));
+		.where(
+			and(
+				eq(workOrders.siteId, siteId),
+				filter.equipmentId ? eq(workOrders.equipmentId, filter.equipmentId) : undefined
+			)
+		);
 	if (!rows.length) return [];
 	const ids = rows.map((r) => r.id);
 	const plans = await db()
@@ -765,34 +773,22 @@ async function mustBeAssignedAndQualified(
 	const by = personOf(user);
 	await mustHold(by, ['technician'], what, { type: 'work_order', id: s.wo.id });
 	if (!s.plan.assignees.includes(user.id))
-		await refuse403(by, s, 'You are not assigned to this work order: the Planner assigns it.', {
-			rule: 'assigned',
-			what
-		});
-	if (!(await isQualified(user.id, s.wo.procedureId, day)))
-		await refuse403(
+		await refuse(
 			by,
-			s,
-			`You are not currently qualified on ${s.wo.procedureCode}: your training record has lapsed or is missing.`,
-			{ rule: 'qualified', what }
+			'You are not assigned to this work order: the Planner assigns it.',
+			{
+				rule: 'assigned',
+				what
+			},
+			{ type: 'work_order', id: s.wo.id }
 		);
-}
-
-async function refuse403(
-	by: Recorder,
-	s: WorkOrderState,
-	message: string,
-	details: Record<string, unknown>,
-	action = 'auth.access_denied'
-): Promise<never> {
-	await recordEventNow({
-		actor: by,
-		action,
-		entityType: 'work_order',
-		entityId: s.wo.id,
-		newValues: { ...details, message }
-	});
-	throw new RecordError(message, undefined, 403);
+	if (!(await isQualified(user.id, s.wo.procedureId, day)))
+		await refuse(
+			by,
+			`You are not currently qualified on ${s.wo.procedureCode}: your training record has lapsed or is missing.`,
+			{ rule: 'qualified', what },
+			{ type: 'work_order', id: s.wo.id }
+		);
 }
 
 /**
@@ -1366,11 +1362,11 @@ async function mustBeVerifier(
 			clientAddress
 		);
 	if (!(await isQualified(user.id, s.wo.procedureId, day)))
-		await refuse403(
+		await refuse(
 			by,
-			s,
 			`You are not currently qualified on ${s.wo.procedureCode}, so you cannot verify its steps.`,
-			{ rule: 'qualified', what: 'verify steps' }
+			{ rule: 'qualified', what: 'verify steps' },
+			{ type: 'work_order', id: s.wo.id }
 		);
 }
 
@@ -1874,13 +1870,16 @@ export async function queuesFor(user: User) {
 				detail: due(w)
 			}));
 		out.verify = [];
+		const qualifiedOn = new Map<string, boolean>();
 		for (const w of list.filter((x) => x.status === 'in_progress')) {
 			const s = (await loadState(db(), w.id))!;
 			const waiting = s.steps.filter(
 				(x) => x.step.verificationRequired && x.status.state === 'performed'
 			);
 			if (!waiting.length) continue;
-			if (!(await isQualified(user.id, s.wo.procedureId, today))) continue;
+			if (!qualifiedOn.has(s.wo.procedureId))
+				qualifiedOn.set(s.wo.procedureId, await isQualified(user.id, s.wo.procedureId, today));
+			if (!qualifiedOn.get(s.wo.procedureId)) continue;
 			for (const x of waiting) {
 				const mine =
 					x.status.performed?.recordedBy === user.id ||
@@ -1988,7 +1987,7 @@ export async function fittingsOfLot(lotIds: string[]) {
 /** The work orders of one piece of equipment, newest first (its log, MR2). */
 export async function workOrdersOfEquipment(equipmentId: string) {
 	const site = await siteOrFail();
-	return (await listWorkOrders(site.id)).filter((w) => w.equipmentId === equipmentId);
+	return listWorkOrders(site.id, { equipmentId });
 }
 
 export { signaturesOf };
