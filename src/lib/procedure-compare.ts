@@ -4,6 +4,7 @@ import {
 	fieldKindLabels,
 	hazardLabels,
 	limitsText,
+	tighteningPatternLabels,
 	type Calculation,
 	type FieldKind,
 	type Hazard,
@@ -66,14 +67,16 @@ function fieldFacts(f: ProcedureField): [string, string][] {
 	];
 	if (f.kind === 'number' || f.kind === 'calculated')
 		facts.push(['Unit', f.unit], ['Decimals', String(f.decimals)]);
-	if (f.kind === 'number') facts.push(['Limits', limitsText(f) || 'none']);
+	if (f.kind === 'number' || (f.kind === 'calculated' && f.calculation === 'flow_coefficient'))
+		facts.push(['Limits', limitsText(f) || 'none']);
 	if (f.kind === 'choice') facts.push(['Options', f.options.join(' · ')]);
 	if (f.kind === 'instrument') facts.push(['Instrument kind', f.instrumentKind]);
 	if (f.kind === 'calculated')
-		facts.push([
-			'Calculation',
-			f.calculation ? calculationLabels[f.calculation as Calculation] : ''
-		]);
+		facts.push(
+			['Calculation', f.calculation ? calculationLabels[f.calculation as Calculation] : ''],
+			['Inputs', (f.inputs ?? []).join(', ')]
+		);
+	if (f.kind === 'tightening') facts.push(['Passes', tighteningPatternLabels[f.pattern ?? 'full']]);
 	return facts;
 }
 

@@ -7,6 +7,8 @@ import {
 } from './schemas/procedure';
 import {
 	currentEntries,
+	entryUnits,
+	inFieldUnit,
 	parseEntry,
 	rawOf,
 	RELEASE_RECORD,
@@ -47,19 +49,22 @@ describe('parseEntry: a raw form value → its typed value', () => {
 	});
 
 	it('reads numbers with a decimal point, trims, takes a sign', () => {
-		expect(parseEntry(number(), '12.5')).toEqual({ ok: true, value: { number: 12.5 } });
-		expect(parseEntry(number(), ' 12.5 ')).toEqual({ ok: true, value: { number: 12.5 } });
-		expect(parseEntry(number(), '12')).toEqual({ ok: true, value: { number: 12 } });
-		expect(parseEntry(number(), '-3.5')).toEqual({ ok: true, value: { number: -3.5 } });
-		expect(parseEntry(number(), '+3')).toEqual({ ok: true, value: { number: 3 } });
+		expect(parseEntry(number(), '12.5')).toEqual({ ok: true, value: { number: 12.5, unit: 'mm' } });
+		expect(parseEntry(number(), ' 12.5 ')).toEqual({
+			ok: true,
+			value: { number: 12.5, unit: 'mm' }
+		});
+		expect(parseEntry(number(), '12')).toEqual({ ok: true, value: { number: 12, unit: 'mm' } });
+		expect(parseEntry(number(), '-3.5')).toEqual({ ok: true, value: { number: -3.5, unit: 'mm' } });
+		expect(parseEntry(number(), '+3')).toEqual({ ok: true, value: { number: 3, unit: 'mm' } });
 	});
 
 	it('accepts a decimal comma where it is the only separator', () => {
 		// The decimal comma is usual on many shop floors (common practice, no source).
-		expect(parseEntry(number(), '12,5')).toEqual({ ok: true, value: { number: 12.5 } });
+		expect(parseEntry(number(), '12,5')).toEqual({ ok: true, value: { number: 12.5, unit: 'mm' } });
 		expect(parseEntry(number({ decimals: 2 }), '0,25')).toEqual({
 			ok: true,
-			value: { number: 0.25 }
+			value: { number: 0.25, unit: 'mm' }
 		});
 	});
 
@@ -88,7 +93,7 @@ describe('parseEntry: a raw form value → its typed value', () => {
 		expect(parseEntry(number({ decimals: 0 }), '3.0')).toMatchObject({ ok: false });
 		expect(parseEntry(number({ decimals: 2 }), '3.6')).toEqual({
 			ok: true,
-			value: { number: 3.6 }
+			value: { number: 3.6, unit: 'mm' }
 		});
 	});
 
@@ -126,10 +131,21 @@ describe('parseEntry: a raw form value → its typed value', () => {
 			expect(parseEntry(f, raw), raw).toEqual({ ok: false, message: 'Choose pass or fail.' });
 	});
 
-	it('reads the tightening confirmation', () => {
+	it('leaves tightening to the server, which builds it from the passes ticked (6/10)', () => {
 		const f = field('g', 'tightening');
-		expect(parseEntry(f, 'completed')).toEqual({ ok: true, value: { completed: true } });
-		expect(parseEntry(f, 'done')).toMatchObject({ ok: false });
+		expect(parseEntry(f, 'completed')).toMatchObject({ ok: false });
+	});
+
+	it('takes a number in another unit of its quantity and keeps that unit (NIST SP 811 factors)', () => {
+		const f = number({ unit: 'N·m', decimals: 1 });
+		expect(entryUnits('N·m')).toEqual(['N·m', 'lbf·in', 'lbf·ft']);
+		expect(parseEntry(f, '53.12', 'lbf·in')).toEqual({
+			ok: true,
+			value: { number: 53.12, unit: 'lbf·in' }
+		});
+		expect(parseEntry(f, '5', 'psi')).toMatchObject({ ok: false });
+		expect(parseEntry(f, '5', 'furlong')).toMatchObject({ ok: false });
+		expect(entryUnits('pcs')).toEqual(['pcs']);
 	});
 
 	it('takes only one of the options of a choice, exactly as written', () => {
@@ -214,10 +230,20 @@ describe('withinLimits: inclusive limits; outside is a deviation (DI3)', () => {
 		expect(withinLimits(f, n(2.4))).toBe(true);
 		expect(withinLimits(f, n(2.2))).toBe(true);
 		expect(withinLimits(f, n(2.5))).toBe(false);
-		const g = number({ limitType: 'target', target: 0.3, tolerance: 0.1 });
+		const g = number({ limitType: 'target', target: 0.3, tolerance: 0.1, decimals: 2 });
 		expect(withinLimits(g, n(0.4))).toBe(true);
 		expect(withinLimits(g, n(0.2))).toBe(true);
 		expect(withinLimits(g, n(0.41))).toBe(false);
+	});
+
+	it('judges a value in another unit converted and rounded to the field’s decimals (ASTM E29 rounding method, from memory)', () => {
+		// 53.1 lbf·in × 0.1129848 N·m per lbf·in (NIST SP 811 B.8) = 5.9995 N·m, shown 6.0 N·m.
+		const f = number({ unit: 'N·m', decimals: 1, limitType: 'range', min: 5.5, max: 6 });
+		expect(inFieldUnit(f, { number: 53.1, unit: 'lbf·in' })).toBe(6);
+		expect(withinLimits(f, { number: 53.1, unit: 'lbf·in' })).toBe(true);
+		// 54 lbf·in = 6.101 N·m, shown 6.1: over the maximum.
+		expect(withinLimits(f, { number: 54, unit: 'lbf·in' })).toBe(false);
+		expect(valueText(f, { number: 54, unit: 'lbf·in' })).toBe('6.1 N·m (entered as 54 lbf·in)');
 	});
 
 	it('has no result where the field has no limits', () => {
@@ -281,11 +307,10 @@ describe('valueText: a value in words with its unit', () => {
 
 	it('rawOf gives back the form text that parses to the same value', () => {
 		const cases: [ProcedureField, EntryValue][] = [
-			[number({ decimals: 2 }), { number: 3.65 }],
+			[number({ decimals: 2 }), { number: 3.65, unit: 'mm' }],
 			[field('t', 'text'), { text: 'LP-0042' }],
 			[field('p', 'pass_fail'), { pass: false }],
-			[field('c', 'choice', { options: ['A', 'B'] }), { choice: 'B' }],
-			[field('g', 'tightening'), { completed: true }]
+			[field('c', 'choice', { options: ['A', 'B'] }), { choice: 'B' }]
 		];
 		for (const [f, value] of cases)
 			expect(parseEntry(f, rawOf(value)), f.kind).toEqual({ ok: true, value });

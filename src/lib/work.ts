@@ -1,4 +1,7 @@
-import type { ProcedureField, ProcedureStep } from './schemas/procedure';
+import { formulas } from './calc/formulas';
+import { testUncertaintyRatio } from './calc/tur';
+import { convert, quantityOf, unitsOf } from './calc/units';
+import { hasLimits, type ProcedureField, type ProcedureStep } from './schemas/procedure';
 
 /**
  * Work orders (5/10): their words, and the rules both sides share — how a raw entry becomes a
@@ -78,9 +81,51 @@ export const stepStateLabels: Record<StepState, string> = {
 
 // ── Entries ──────────────────────────────────────────────────────────────────
 
+/** A tightening pass as the record keeps it: which, its target, and when it was ticked (server time). */
+export type PassRecord = {
+	pass: number;
+	name: string;
+	targetTorque: number | null;
+	unit: string;
+	at: string;
+	by: string;
+};
+
+/** What a calculated field stored: the result, its formula and the entries it was computed from. */
+export type CalculatedValue = {
+	calculated: number;
+	unit: string;
+	formula: keyof typeof formulas;
+	expression: string;
+	inputs: {
+		field: string;
+		label: string;
+		symbol: string;
+		entryId: string;
+		number: number;
+		unit: string;
+	}[];
+	/** Compression: under / within / over the equipment's band; null where the field's limits decide. */
+	judgement: 'under' | 'within' | 'over' | null;
+	band: { min: number; max: number } | null;
+};
+
+/** What a tightening field stored once every pass was ticked: the passes, final torque and wrench. */
+export type TighteningValue = {
+	tightening: {
+		pattern: 'full' | 'check';
+		fasteners: number;
+		sequence: number[];
+		round: number;
+		passes: PassRecord[];
+	};
+	finalTorque: { number: number; unit: string };
+	wrench: { instrumentId: string; code: string; kind: string; calibrationDueOn: string };
+};
+
 /** A stored value, by field kind. Lots and instruments carry what was checked at entry. */
 export type EntryValue =
-	| { number: number }
+	| { number: number; unit?: string }
 	| { text: string }
 	| { pass: boolean }
 	| { choice: string }
@@ -91,7 +136,17 @@ export type EntryValue =
 			materialCode: string;
 			expiresOn: string | null;
 	  }
-	| { instrumentId: string; code: string; kind: string; calibrationDueOn: string }
+	| {
+			instrumentId: string;
+			code: string;
+			kind: string;
+			calibrationDueOn: string;
+			/** The test uncertainty ratio for each field of the step it measures (Z540.3). */
+			tur?: { field: string; ratio: number }[];
+	  }
+	| CalculatedValue
+	| TighteningValue
+	/** Tightening as 5/10 recorded it, before the guided passes. */
 	| { completed: boolean };
 
 /** Kinds a technician enters on the Execute screen in this release (photos arrive with 7/10). */
@@ -105,20 +160,46 @@ export type Parsed =
 const uuidPattern = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
 
 /**
- * A raw form value for a field → its typed value (lots and instruments as ids, resolved and
- * checked by the server). An empty string is "not entered" and gives null.
+ * The units a number can be entered in: the procedure's own first, then the others of its
+ * quantity (NIST SP 811 factors, src/lib/calc/units.ts). A unit the library does not know is
+ * the only choice.
  */
-export function parseEntry(field: ProcedureField, raw: string): Parsed | null {
+export function entryUnits(unit: string): string[] {
+	const q = quantityOf(unit);
+	return q ? [unit, ...unitsOf(q).filter((u) => u !== unit)] : [unit];
+}
+
+/** A number typed on the shop floor: a decimal comma is accepted where it is the only separator. */
+export function parseNumber(raw: string) {
+	const text = raw.trim();
+	const normal = text.includes('.') ? text : text.replace(',', '.');
+	if (!/^[-+]?\d+(\.\d+)?$/.test(normal)) return null;
+	const number = Number(normal);
+	if (!Number.isFinite(number) || Math.abs(number) > 1e12) return null;
+	return { number, decimals: normal.split('.')[1]?.length ?? 0 };
+}
+
+/**
+ * A raw form value for a field → its typed value (lots and instruments as ids, resolved and
+ * checked by the server). An empty string is "not entered" and gives null. A number may be
+ * entered in another unit of its quantity (`unit`); it is stored with that unit.
+ */
+export function parseEntry(field: ProcedureField, raw: string, unit = ''): Parsed | null {
 	const text = raw.trim();
 	if (!text) return null;
 	switch (field.kind) {
 		case 'number': {
-			// A decimal comma is accepted where it is the only separator (common on the shop floor).
+			const entered = unit.trim() || field.unit;
+			if (!entryUnits(field.unit).includes(entered))
+				return { ok: false, message: `Choose a unit that converts to ${field.unit}.` };
 			const normal = text.includes('.') ? text : text.replace(',', '.');
 			if (!/^[-+]?\d+(\.\d+)?$/.test(normal))
-				return { ok: false, message: `Enter a number in ${field.unit}.` };
+				return { ok: false, message: `Enter a number in ${entered}.` };
 			const decimals = normal.split('.')[1]?.length ?? 0;
-			if (decimals > field.decimals)
+			// In another unit the procedure's decimals do not apply; the value is judged as shown in its unit.
+			if (entered !== field.unit && decimals > 6)
+				return { ok: false, message: 'Enter at most 6 decimals.' };
+			if (entered === field.unit && decimals > field.decimals)
 				return {
 					ok: false,
 					message:
@@ -129,7 +210,7 @@ export function parseEntry(field: ProcedureField, raw: string): Parsed | null {
 			const number = Number(normal);
 			if (!Number.isFinite(number) || Math.abs(number) > 1e12)
 				return { ok: false, message: 'That number is out of any measurable range.' };
-			return { ok: true, value: { number } };
+			return { ok: true, value: { number, unit: entered } };
 		}
 		case 'text':
 			if (text.length > 2000) return { ok: false, message: 'Keep it under 2000 characters.' };
@@ -142,10 +223,6 @@ export function parseEntry(field: ProcedureField, raw: string): Parsed | null {
 		case 'pass_fail':
 			if (text !== 'pass' && text !== 'fail') return { ok: false, message: 'Choose pass or fail.' };
 			return { ok: true, value: { pass: text === 'pass' } };
-		case 'tightening':
-			if (text !== 'completed')
-				return { ok: false, message: 'Confirm the passes once they are done.' };
-			return { ok: true, value: { completed: true } };
 		case 'choice':
 			if (!field.options.includes(text))
 				return { ok: false, message: 'Choose one of the options.' };
@@ -163,12 +240,37 @@ export function parseEntry(field: ProcedureField, raw: string): Parsed | null {
 }
 
 /**
+ * A number or calculated value in the procedure's unit, rounded to the field's decimals: what is
+ * shown and judged (the rounding method of ASTM E29, from memory). Null if it cannot convert.
+ */
+export function inFieldUnit(
+	field: Pick<ProcedureField, 'unit' | 'decimals'>,
+	value: EntryValue
+): number | null {
+	let n: number;
+	if ('number' in value) {
+		const c =
+			value.unit && value.unit !== field.unit
+				? convert(value.number, value.unit, field.unit)
+				: { ok: true as const, value: value.number };
+		if (!c.ok) return null;
+		n = c.value;
+	} else if ('calculated' in value) n = value.calculated;
+	else return null;
+	const shown = Number(n.toFixed(field.decimals));
+	return Number.isFinite(shown) ? shown : null;
+}
+
+/**
  * Whether a value meets the field's limits: true, false (outside: a deviation), or null where
- * the field has none. Limits are inclusive. A failed pass/fail check is outside its limits.
+ * the field has none. Limits are inclusive. A failed pass/fail check is outside its limits; a
+ * compression outside the valve's band is outside.
  */
 export function withinLimits(field: ProcedureField, value: EntryValue): boolean | null {
-	if ('number' in value && field.kind === 'number') {
-		const n = value.number;
+	if ('calculated' in value && value.judgement) return value.judgement === 'within';
+	if (('number' in value || 'calculated' in value) && hasLimits(field)) {
+		const n = inFieldUnit(field, value);
+		if (n === null) return false;
 		if (field.limitType === 'range')
 			return (field.min === null || n >= field.min) && (field.max === null || n <= field.max);
 		if (field.limitType === 'target' && field.target !== null && field.tolerance !== null) {
@@ -181,15 +283,34 @@ export function withinLimits(field: ProcedureField, value: EntryValue): boolean 
 	}
 	if ('pass' in value) return value.pass;
 	if ('completed' in value) return value.completed;
+	if ('tightening' in value) return true;
 	return null;
 }
+
+const fixed = (n: number, decimals: number) => n.toFixed(decimals);
 
 /** A value in words, with its unit: what the record, the verifier and the signature show. */
 export function valueText(
 	field: Pick<ProcedureField, 'kind' | 'unit' | 'decimals'>,
 	value: EntryValue
 ) {
-	if ('number' in value) return `${value.number.toFixed(field.decimals)} ${field.unit}`.trim();
+	if ('number' in value) {
+		if (!value.unit || value.unit === field.unit)
+			return `${fixed(value.number, field.decimals)} ${field.unit}`.trim();
+		const shown = inFieldUnit(field, value);
+		return `${shown === null ? '?' : fixed(shown, field.decimals)} ${field.unit} (entered as ${value.number} ${value.unit})`;
+	}
+	if ('calculated' in value) {
+		const inputs = value.inputs.map((i) => `${i.symbol} = ${i.number} ${i.unit}`).join(', ');
+		const band = value.band
+			? `; ${value.judgement === 'within' ? 'within' : value.judgement === 'under' ? 'under' : 'over'} the band ${value.band.min}–${value.band.max} %`
+			: '';
+		return `${fixed(value.calculated, field.decimals)} ${value.unit} (${value.expression}, ${inputs}${band})`;
+	}
+	if ('tightening' in value) {
+		const t = value.tightening;
+		return `${t.passes.length} ${t.passes.length === 1 ? 'pass' : 'passes'} on ${t.fasteners} fasteners, final torque ${value.finalTorque.number} ${value.finalTorque.unit} with ${value.wrench.code} (calibration due ${value.wrench.calibrationDueOn})`;
+	}
 	if ('text' in value) return value.text;
 	if ('pass' in value) return value.pass ? 'Pass' : 'Fail';
 	if ('choice' in value) return value.choice;
@@ -202,6 +323,8 @@ export function valueText(
 /** The raw form text that gives back a stored value (to prefill a correction). */
 export function rawOf(value: EntryValue): string {
 	if ('number' in value) return String(value.number);
+	if ('calculated' in value) return String(value.calculated);
+	if ('tightening' in value) return String(value.finalTorque.number);
 	if ('text' in value) return value.text;
 	if ('pass' in value) return value.pass ? 'pass' : 'fail';
 	if ('choice' in value) return value.choice;
@@ -269,7 +392,8 @@ export type StepStatus = {
 export function stepStatus(
 	step: ProcedureStep,
 	entries: readonly EntryRow[],
-	signoffs: readonly SignoffRow[]
+	signoffs: readonly SignoffRow[],
+	passes: readonly PassRow[] = []
 ): StepStatus {
 	const mineEntries = entries.filter((e) => e.stepKey === step.key);
 	const mineSignoffs = signoffs.filter((s) => s.stepKey === step.key);
@@ -296,10 +420,15 @@ export function stepStatus(
 					? 'entered'
 					: 'not_started';
 	// A required photo counts as missing until photo evidence arrives (7/10): such a step cannot be signed.
+	// A tightening whose passes were started again after its entry was saved is missing until saved again.
+	const inForce = (f: ProcedureField) => {
+		const e = current.find((x) => x.fieldKey === f.key);
+		if (!e) return false;
+		if (f.kind !== 'tightening' || !('tightening' in e.value)) return true;
+		return e.value.tightening.round === passProgress(passes, step.key, f.key).round;
+	};
 	const missing = step.fields
-		.filter(
-			(f) => f.required && f.kind !== 'calculated' && !current.some((e) => e.fieldKey === f.key)
-		)
+		.filter((f) => f.required && f.kind !== 'calculated' && !inForce(f))
 		.map((f) => f.key);
 	return {
 		state,
@@ -308,7 +437,8 @@ export function stepStatus(
 		returned,
 		missing,
 		outside: current.some((e) => e.withinLimits === false),
-		revision: mineEntries.length + mineSignoffs.length
+		revision:
+			mineEntries.length + mineSignoffs.length + passes.filter((p) => p.stepKey === step.key).length
 	};
 }
 
@@ -470,3 +600,77 @@ export function deviationSignedContent(d: {
 
 /** DI1: a performed-at further back than this needs a reason (a late entry). */
 export const LATE_ENTRY_MINUTES = 15;
+
+// ── Guided tightening (6/10) ─────────────────────────────────────────────────
+
+export type PassRow = {
+	id: string;
+	stepKey: string;
+	fieldKey: string;
+	round: number;
+	/** 1…n a pass ticked; 0 a restart of the passes (with its reason). */
+	pass: number;
+	name: string;
+	targetTorque: number | null;
+	unit: string;
+	reason: string | null;
+	recordedBy: string | null;
+	recordedByName: string;
+	recordedAt: string;
+	auditSeq: number;
+};
+
+/** The passes of the current round of one tightening field, in order, and the number of the next. */
+export function passProgress(rows: readonly PassRow[], stepKey: string, fieldKey: string) {
+	const mine = rows.filter((r) => r.stepKey === stepKey && r.fieldKey === fieldKey);
+	const round = Math.max(1, ...mine.map((r) => r.round));
+	const done = mine.filter((r) => r.round === round && r.pass >= 1).sort((a, b) => a.pass - b.pass);
+	return {
+		round,
+		done,
+		next: done.length + 1,
+		restarts: mine.filter((r) => r.pass === 0)
+	};
+}
+
+/** A number field's two-sided tolerance (range with both ends, or target ± tolerance), in its unit. */
+export function toleranceOf(f: ProcedureField): { lower: number; upper: number } | null {
+	if (f.kind !== 'number') return null;
+	if (f.limitType === 'range' && f.min !== null && f.max !== null)
+		return { lower: f.min, upper: f.max };
+	if (f.limitType === 'target' && f.target !== null && f.tolerance !== null)
+		return { lower: f.target - f.tolerance, upper: f.target + f.tolerance };
+	return null;
+}
+
+/** A diaphragm valve's compression band from its data, or null where it has none. */
+export function bandOf(attributes: Record<string, unknown>): { min: number; max: number } | null {
+	const min = attributes.compressionMinPercent;
+	const max = attributes.compressionMaxPercent;
+	return typeof min === 'number' && typeof max === 'number' && min < max ? { min, max } : null;
+}
+
+/**
+ * The test uncertainty ratio (ANSI/NCSL Z540.3) of an instrument for each number field of the
+ * step it can measure: a two-sided tolerance in a unit that converts to the instrument's.
+ */
+export function turOf(
+	fields: readonly ProcedureField[],
+	instrument: { unit: string; uncertaintyU95: number }
+) {
+	const out: { field: string; ratio: number }[] = [];
+	for (const f of fields) {
+		const b = toleranceOf(f);
+		if (!b) continue;
+		const lower = convert(b.lower, f.unit, instrument.unit);
+		const upper = convert(b.upper, f.unit, instrument.unit);
+		if (!lower.ok || !upper.ok) continue;
+		const r = testUncertaintyRatio({
+			lower: lower.value,
+			upper: upper.value,
+			u95: instrument.uncertaintyU95
+		});
+		if (r.ok) out.push({ field: f.key, ratio: Number(r.value.ratio.toFixed(2)) });
+	}
+	return out;
+}

@@ -246,6 +246,36 @@ describe('role × route matrix', () => {
 		expect(huge.status).toBeLessThan(500);
 	});
 
+	it('a tightening pass: an inspector is refused 403; broken input is 400 and a wrong field 404, never a 500; nothing is stored (6/10)', async () => {
+		const count = async () =>
+			(await t.ownerSql`select count(*)::int as n from tightening_passes`)[0]!.n as number;
+		const before = await count();
+		const send = (cookie: string, body: Record<string, string>) =>
+			fetch(`${app.origin}/work/${ids.workOrder}/steps/tighten?/pass`, {
+				method: 'POST',
+				redirect: 'manual',
+				headers: {
+					origin: app.origin,
+					accept: 'text/html',
+					cookie,
+					'content-type': 'application/x-www-form-urlencoded'
+				},
+				body: new URLSearchParams(body)
+			});
+		expect(
+			(await send(cookies.get('inspector')!, { tick: 'tightening:1', seen: '0' })).status
+		).toBe(403);
+		for (const body of [
+			{ tick: 'tightening:1' },
+			{ tick: 'tightening:x', seen: '0' },
+			{ tick: 'Tightening; drop table:1', seen: '0' },
+			{ seen: '0' }
+		])
+			expect((await send(cookies.get('tech1')!, body)).status, JSON.stringify(body)).toBe(400);
+		expect((await send(cookies.get('tech1')!, { tick: 'nothing:1', seen: '0' })).status).toBe(404);
+		expect(await count()).toBe(before);
+	});
+
 	it('GET /api/v1/queues answers each person their own queues as JSON', async () => {
 		const res = await get('/api/v1/queues', cookies.get('quality'));
 		expect(res.status).toBe(200);

@@ -622,7 +622,8 @@ describe('execution refusals on one diaphragm job (XV-3104)', () => {
 			);
 		const v = await view(id);
 		expect(v.entries.find((e) => e.fieldKey === 'surface-temperature')!.value).toEqual({
-			number: 13
+			number: 13,
+			unit: '°C'
 		});
 		// depressurised was new in that save: refused with the correction, so it is still missing.
 		expect(v.steps[0]!.status.missing).toEqual(['depressurised']);

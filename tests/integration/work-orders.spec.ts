@@ -112,7 +112,10 @@ describe('the diaphragm job from plan to release', () => {
 		).toBe(true);
 		const corrected = v.entries.filter((x) => x.corrects);
 		expect(corrected).toHaveLength(1);
-		expect(v.entries.find((x) => x.id === corrected[0]!.corrects)!.value).toEqual({ number: 13 });
+		expect(v.entries.find((x) => x.id === corrected[0]!.corrects)!.value).toEqual({
+			number: 13,
+			unit: '°C'
+		});
 		expect(v.deviations).toHaveLength(1);
 	});
 

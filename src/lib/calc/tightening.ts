@@ -85,3 +85,15 @@ export function tighteningPasses(n: number, finalTorque: number | null): Calc<Pa
 		}
 	]);
 }
+
+/** One check pass at the final torque in the cross order (a re-tightening check). */
+export function checkPasses(n: number, finalTorque: number | null): Calc<Pass[]> {
+	const full = tighteningPasses(n, finalTorque);
+	if (!full.ok) return full;
+	const last = full.value[3]!;
+	return ok([{ ...last, name: 'Check pass at 100 %, in the cross pattern' }]);
+}
+
+/** The passes a tightening field guides, by its pattern. */
+export const passesFor = (pattern: 'full' | 'check', n: number, finalTorque: number | null) =>
+	pattern === 'check' ? checkPasses(n, finalTorque) : tighteningPasses(n, finalTorque);

@@ -50,3 +50,8 @@ export function convert(value: number, from: string, to: string): Calc<number> {
 	const table = quantities[q]!;
 	return ok((value * table[from]!) / table[to]!);
 }
+
+/** The units of a quantity, as this module knows them. */
+export function unitsOf(q: Quantity): string[] {
+	return q === 'temperature' ? [...temperature] : Object.keys(quantities[q]!);
+}

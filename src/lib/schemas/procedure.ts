@@ -1,4 +1,5 @@
 import { z } from 'zod';
+import { formulas, feeds } from '../calc/formulas';
 import { equipmentClasses } from '../equipment';
 import { isStorableText, unstorableTextMessage } from './text';
 
@@ -54,12 +55,23 @@ export const fieldKindLabels: Record<FieldKind, string> = {
 export const limitTypes = ['none', 'range', 'target'] as const;
 export type LimitType = (typeof limitTypes)[number];
 
-/** Calculations a field can show (the formulas come with 6/10, in src/lib/calc). */
+/** Calculations a field can show: the formulas of src/lib/calc/formulas.ts. */
 export const calculations = ['diaphragm_compression', 'flow_coefficient'] as const;
-export type Calculation = (typeof calculations)[number];
+export type Calculation = (typeof calculations)[number] & keyof typeof formulas;
 export const calculationLabels: Record<Calculation, string> = {
 	diaphragm_compression: 'Diaphragm compression (% of thickness)',
 	flow_coefficient: 'Flow coefficient Kv'
+};
+
+/**
+ * How a tightening field guides the passes: the full sequence (snug, about 30 %, 70 %, 100 %,
+ * then circular at 100 %) or one check pass at the final torque (the re-tightening check).
+ */
+export const tighteningPatterns = ['full', 'check'] as const;
+export type TighteningPattern = (typeof tighteningPatterns)[number];
+export const tighteningPatternLabels: Record<TighteningPattern, string> = {
+	full: 'Full tightening: snug, about 30 %, 70 %, 100 %, then a circular pass',
+	check: 'Check pass at the final torque, in the cross pattern'
 };
 
 const words = (label: string, max: number) =>
@@ -98,13 +110,18 @@ export const fieldSchema = z
 		tolerance: finite.nullable(),
 		options: z.array(words('option', 80)).max(20, 'At most 20 options.'),
 		instrumentKind: optionalWords(40),
-		calculation: z.enum(calculations).nullable()
+		calculation: z.enum(calculations).nullable(),
+		/** Calculated fields: the keys of the step's number fields that feed the formula, in its order. */
+		inputs: z.array(keySchema).max(4).default([]),
+		/** Tightening fields: the passes the field guides. */
+		pattern: z.enum(tighteningPatterns).default('full')
 	})
 	.superRefine((f, ctx) => {
 		const need = (path: string, message: string) =>
 			ctx.addIssue({ code: 'custom', path: [path], message });
-		if (f.kind === 'number') {
-			if (!f.unit) need('unit', 'Give the unit (for example mm, N·m, L/min).');
+		if (hasLimits(f)) {
+			if (f.kind === 'number' && !f.unit)
+				need('unit', 'Give the unit (for example mm, N·m, L/min).');
 			// A limit is shown with the field's decimals: it must not hide digits the signer cannot see.
 			for (const key of ['min', 'max', 'target', 'tolerance'] as const) {
 				const v = f[key];
@@ -129,6 +146,15 @@ export const fieldSchema = z
 		if (f.kind === 'instrument' && !f.instrumentKind)
 			need('instrumentKind', 'Say which kind of instrument (for example flow meter).');
 		if (f.kind === 'calculated' && !f.calculation) need('calculation', 'Choose the calculation.');
+		if (
+			f.kind === 'calculated' &&
+			f.calculation === 'diaphragm_compression' &&
+			f.limitType !== 'none'
+		)
+			need(
+				'limitType',
+				'The compression is judged against the band in the valve’s data: set no limits here.'
+			);
 	});
 export type ProcedureField = z.infer<typeof fieldSchema>;
 
@@ -151,6 +177,35 @@ export const stepSchema = z
 		const keys = s.fields.map((f) => f.key);
 		if (new Set(keys).size !== keys.length)
 			ctx.addIssue({ code: 'custom', path: ['fields'], message: 'Two fields share a key.' });
+		// A calculated field names, in the formula's order, number fields of this step in a unit that converts.
+		s.fields.forEach((f, j) => {
+			if (f.kind !== 'calculated' || !f.calculation) return;
+			const wanted = formulas[f.calculation].inputs;
+			const path = ['fields', j, 'inputs'];
+			if (f.inputs.length !== wanted.length)
+				return ctx.addIssue({
+					code: 'custom',
+					path,
+					message: `Choose the ${wanted.length} fields this calculation reads: ${wanted.map((w) => w.label.toLowerCase()).join(', ')}.`
+				});
+			wanted.forEach((w, i) => {
+				const source = s.fields.find((x) => x.key === f.inputs[i]);
+				if (!source || source.kind !== 'number')
+					ctx.addIssue({
+						code: 'custom',
+						path: [...path, i],
+						message: `Choose a number field of this step for the ${w.label.toLowerCase()}.`
+					});
+				else if (!feeds(source.unit, w))
+					ctx.addIssue({
+						code: 'custom',
+						path: [...path, i],
+						message: `“${source.label}” is in ${source.unit}, which does not convert to ${w.unit} for the ${w.label.toLowerCase()}.`
+					});
+			});
+			if (new Set(f.inputs).size !== f.inputs.length)
+				ctx.addIssue({ code: 'custom', path, message: 'Choose a different field for each input.' });
+		});
 	});
 export type ProcedureStep = z.infer<typeof stepSchema>;
 
@@ -197,16 +252,22 @@ export const valveOnly = (f: { kind: FieldKind; calculation: Calculation | null 
 	f.kind === 'tightening' ||
 	(f.kind === 'calculated' && f.calculation === 'diaphragm_compression');
 
+/** Fields judged against limits of their own: numbers and a calculated Kv. */
+export const hasLimits = (f: Pick<ProcedureField, 'kind' | 'calculation'>) =>
+	f.kind === 'number' || (f.kind === 'calculated' && f.calculation === 'flow_coefficient');
+
 /** What each kind of field uses; everything else is stored as null (or empty). */
 export function cleanField(f: ProcedureField): ProcedureField {
-	const number = f.kind === 'number';
+	// A calculated Kv carries limits like a number; a calculated compression takes the valve's band.
+	const number = hasLimits(f);
+	const formula = f.kind === 'calculated' && f.calculation ? formulas[f.calculation] : null;
 	return {
 		key: f.key,
 		label: f.label,
 		kind: f.kind,
 		required: f.kind === 'calculated' ? false : f.required,
 		hint: f.hint,
-		unit: number || f.kind === 'calculated' ? f.unit : '',
+		unit: formula ? formula.unit : number ? f.unit : '',
 		decimals: number || f.kind === 'calculated' ? f.decimals : 0,
 		limitType: number ? f.limitType : 'none',
 		min: number && f.limitType === 'range' ? f.min : null,
@@ -215,7 +276,9 @@ export function cleanField(f: ProcedureField): ProcedureField {
 		tolerance: number && f.limitType === 'target' ? f.tolerance : null,
 		options: f.kind === 'choice' ? f.options : [],
 		instrumentKind: f.kind === 'instrument' ? f.instrumentKind : '',
-		calculation: f.kind === 'calculated' ? f.calculation : null
+		calculation: f.kind === 'calculated' ? f.calculation : null,
+		inputs: f.kind === 'calculated' ? [...(f.inputs ?? [])] : [],
+		pattern: f.kind === 'tightening' ? (f.pattern ?? 'full') : 'full'
 	};
 }
 
@@ -253,7 +316,9 @@ export function blankField(key: string, kind: FieldKind = 'number'): ProcedureFi
 		tolerance: null,
 		options: [],
 		instrumentKind: '',
-		calculation: null
+		calculation: null,
+		inputs: [],
+		pattern: 'full'
 	};
 }
 
@@ -263,7 +328,7 @@ export function blankStep(key: string): ProcedureStep {
 
 /** The limits of a number field in words, e.g. "2.0 – 3.5 mm" or "40 ± 2 L/min". */
 export function limitsText(f: ProcedureField): string {
-	if (f.kind !== 'number' || f.limitType === 'none') return '';
+	if (!hasLimits(f) || f.limitType === 'none') return '';
 	const n = (v: number) => v.toFixed(f.decimals);
 	if (f.limitType === 'target' && f.target !== null && f.tolerance !== null)
 		return `${n(f.target)} ± ${n(f.tolerance)} ${f.unit}`;
@@ -293,11 +358,24 @@ export function procedureVersionSignedContent(input: {
 	revision: number;
 	content: ProcedureContent;
 }) {
+	const content = cleanContent(input.content);
 	return {
 		procedure: input.code,
 		version: input.version,
 		revision: input.revision,
-		content: cleanContent(input.content)
+		// The keys added in 6/10 appear only where they mean something, so that content approved
+		// before them keeps the signed form it was approved with.
+		content: {
+			...content,
+			steps: content.steps.map((s) => ({
+				...s,
+				fields: s.fields.map(({ inputs, pattern, ...f }) => ({
+					...f,
+					...(inputs.length ? { inputs } : {}),
+					...(pattern !== 'full' ? { pattern } : {})
+				}))
+			}))
+		}
 	};
 }
 

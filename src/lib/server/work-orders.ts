@@ -1,12 +1,26 @@
+import canonicalize from 'canonicalize';
 import { and, asc, desc, eq, inArray, like, or, sql } from 'drizzle-orm';
 import { randomUUID } from 'node:crypto';
 import { equipmentStatusLabels, type EquipmentStatus } from '$lib/equipment';
+import { evaluate, formulas } from '$lib/calc/formulas';
+import { passesFor } from '$lib/calc/tightening';
+import { quantityOf } from '$lib/calc/units';
 import { addDays, siteToday } from '$lib/fitness';
-import { limitsText, type ProcedureContent, type ProcedureField } from '$lib/schemas/procedure';
+import {
+	cleanContent,
+	limitsText,
+	type ProcedureContent,
+	type ProcedureField
+} from '$lib/schemas/procedure';
 import type { SignatureMeaning } from '$lib/signature-meanings';
 import {
+	bandOf,
+	currentEntries,
 	deviationSignedContent,
 	enterable,
+	parseNumber,
+	passProgress,
+	turOf,
 	LATE_ENTRY_MINUTES,
 	parseEntry,
 	statusOf,
@@ -21,6 +35,7 @@ import {
 	type DeviationDecision,
 	type EntryRow,
 	type EntryValue,
+	type PassRow,
 	type Priority,
 	type SignoffRow,
 	type TransitionKind,
@@ -49,6 +64,7 @@ import {
 	procedureVersions,
 	signatures,
 	stepEntries,
+	tighteningPasses,
 	stepSignoffs,
 	workOrderPlans,
 	workOrders,
@@ -135,7 +151,7 @@ async function loadState(tx: Transaction, id: string) {
 				eq(procedureRevisions.revision, approval!.revision)
 			)
 		);
-	const content = revision!.content as ProcedureContent;
+	const content = cleanContent(revision!.content as ProcedureContent);
 	const plans = await tx
 		.select()
 		.from(workOrderPlans)
@@ -156,6 +172,18 @@ async function loadState(tx: Transaction, id: string) {
 		.from(stepSignoffs)
 		.where(eq(stepSignoffs.workOrderId, id))
 		.orderBy(asc(stepSignoffs.auditSeq));
+	const passRows = await tx
+		.select()
+		.from(tighteningPasses)
+		.where(eq(tighteningPasses.workOrderId, id))
+		.orderBy(asc(tighteningPasses.auditSeq));
+	// The equipment's data as registered now: fasteners, torque and compression band (manufacturer's figures).
+	const [equipmentData] = await tx
+		.select({ attributes: equipmentVersions.attributes })
+		.from(equipmentVersions)
+		.where(eq(equipmentVersions.equipmentId, wo.equipmentId))
+		.orderBy(desc(equipmentVersions.version))
+		.limit(1);
 	const deviationRows = await tx
 		.select({
 			id: deviations.id,
@@ -206,6 +234,21 @@ async function loadState(tx: Transaction, id: string) {
 		recordedAt: iso(s.recordedAt),
 		auditSeq: s.auditSeq
 	}));
+	const passes: PassRow[] = passRows.map((p) => ({
+		id: p.id,
+		stepKey: p.stepKey,
+		fieldKey: p.fieldKey,
+		round: p.round,
+		pass: p.pass,
+		name: p.name,
+		targetTorque: p.targetTorque,
+		unit: p.unit,
+		reason: p.reason,
+		recordedBy: p.recordedBy,
+		recordedByName: p.recordedByName,
+		recordedAt: iso(p.recordedAt),
+		auditSeq: p.auditSeq
+	}));
 	const identity: WorkOrderIdentity = {
 		id: wo.id,
 		number: wo.number,
@@ -217,7 +260,7 @@ async function loadState(tx: Transaction, id: string) {
 	const steps = content.steps.map((step, i) => ({
 		step,
 		position: i + 1,
-		status: stepStatus(step, entries, signoffs)
+		status: stepStatus(step, entries, signoffs, passes)
 	}));
 	const lastExecuted = transitions.findLast((t) => t.kind === 'executed');
 	const trailReview =
@@ -235,6 +278,8 @@ async function loadState(tx: Transaction, id: string) {
 		status,
 		entries,
 		signoffs,
+		passes,
+		attributes: (equipmentData?.attributes ?? {}) as Record<string, unknown>,
 		deviations: deviationRows,
 		steps,
 		trailReview,
@@ -245,6 +290,7 @@ async function loadState(tx: Transaction, id: string) {
 			transitions.length +
 			entries.length +
 			signoffs.length +
+			passes.length +
 			deviationRows.length +
 			deviationRows.filter((d) => d.dispositionId).length
 	};
@@ -878,6 +924,10 @@ export type StepSave = {
 	reasons: Record<string, string>;
 	/** Description of the deviation for each value outside its limits. */
 	deviations: Record<string, string>;
+	/** The unit each number was entered in, where it is not the procedure's (6/10). */
+	units?: Record<string, string>;
+	/** The torque wrench of each tightening field, by instrument id (6/10). */
+	wrenches?: Record<string, string>;
 	/** When the work was done: an instant, or null for now (the server's clock). */
 	performedAt: Date | null;
 	lateReason: string;
@@ -902,12 +952,15 @@ export class EntryErrors extends RecordError {
 }
 
 /** Resolves a lot or an instrument and checks it against the equipment and the day (MR3). */
+type Resolved = { value: EntryValue; lotId?: string; instrumentId?: string; dueOn?: string };
+
 async function resolveValue(
 	field: ProcedureField,
 	parsed: EntryValue | { lotId: string } | { instrumentId: string },
 	s: WorkOrderState,
-	day: string
-): Promise<{ value: EntryValue; lotId?: string; instrumentId?: string; dueOn?: string } | string> {
+	day: string,
+	stepFields: readonly ProcedureField[] = []
+): Promise<Resolved | string> {
 	if ('lotId' in parsed && !('partNumber' in parsed)) {
 		const [lot] = await db()
 			.select({
@@ -964,18 +1017,89 @@ async function resolveValue(
 		const fitness = await instrumentFitness(found.id, day);
 		if (!fitness.usable)
 			return `${found.code} cannot be used on ${day}: ${fitness.why === 'expired' ? 'its calibration has expired' : fitness.why === 'retired' ? 'it is withdrawn from use' : fitness.why === 'failed' ? 'its last calibration failed' : 'it has no valid calibration'}.`;
+		const tur = turOf(stepFields, found.current);
 		return {
 			value: {
 				instrumentId: found.id,
 				code: found.code,
 				kind: found.current.kind,
-				calibrationDueOn: fitness.calibration.dueOn
+				calibrationDueOn: fitness.calibration.dueOn,
+				...(tur.length ? { tur } : {})
 			},
 			instrumentId: found.id,
 			dueOn: fitness.calibration.dueOn
 		};
 	}
 	return { value: parsed as EntryValue };
+}
+
+/**
+ * Guided tightening: the final entry of a tightening field, built on the server from the passes
+ * ticked in the current round (all of them, in order), the final torque and the wrench.
+ */
+async function resolveTightening(
+	field: ProcedureField,
+	raw: { torque: string; unit: string; wrench: string },
+	s: WorkOrderState,
+	stepKey: string,
+	day: string
+): Promise<Resolved | string> {
+	const plan = planOf(field, s);
+	if (!plan.ok) return plan.message;
+	const progress = passProgress(s.passes, stepKey, field.key);
+	if (progress.done.length < plan.value.length)
+		return `Tick every pass first: ${progress.done.length} of ${plan.value.length} done.`;
+	const torque = parseNumber(raw.torque);
+	if (!raw.torque.trim()) return 'Enter the final torque the wrench was set to.';
+	if (!torque) return 'Enter the final torque as a number.';
+	if (torque.decimals > 3) return 'Enter the final torque with at most 3 decimals.';
+	if (torque.number <= 0) return 'The final torque must be above zero.';
+	const unit = raw.unit.trim() || 'N·m';
+	if (quantityOf(unit) !== 'torque') return 'Choose the unit of torque the wrench shows.';
+	const wrenchField = { ...field, kind: 'instrument' as const, instrumentKind: 'Torque wrench' };
+	const parsed = parseEntry(wrenchField, raw.wrench);
+	if (!parsed) return 'Choose the torque wrench you used.';
+	if (!parsed.ok) return parsed.message;
+	const wrench = await resolveValue(wrenchField, parsed.value, s, day);
+	if (typeof wrench === 'string') return wrench;
+	const w = wrench.value as Extract<EntryValue, { instrumentId: string }>;
+	return {
+		value: {
+			tightening: {
+				pattern: field.pattern,
+				fasteners: Number(s.attributes.bonnetFasteners),
+				sequence: plan.value[0]!.sequence,
+				round: progress.round,
+				passes: progress.done.map((p) => ({
+					pass: p.pass,
+					name: p.name,
+					targetTorque: p.targetTorque,
+					unit: p.unit,
+					at: p.recordedAt,
+					by: p.recordedByName
+				}))
+			},
+			finalTorque: { number: torque.number, unit },
+			wrench: {
+				instrumentId: w.instrumentId,
+				code: w.code,
+				kind: w.kind,
+				calibrationDueOn: w.calibrationDueOn
+			}
+		},
+		instrumentId: wrench.instrumentId,
+		dueOn: wrench.dueOn
+	};
+}
+
+/** The passes a tightening field guides on this equipment, from the manufacturer's figures in its data. */
+function planOf(field: ProcedureField, s: Pick<WorkOrderState, 'attributes'>) {
+	const torque = s.attributes.fastenerTorqueNm;
+	return passesFor(
+		field.pattern,
+		Number(s.attributes.bonnetFasteners),
+		typeof torque === 'number' ? torque : null
+	);
 }
 
 /**
@@ -1026,25 +1150,43 @@ export async function saveStep(
 	let reasonMissing = false;
 	const changes: {
 		field: ProcedureField;
-		resolved: Exclude<Awaited<ReturnType<typeof resolveValue>>, string>;
+		resolved: Resolved;
 		within: boolean | null;
 		corrects: EntryRow | null;
+		entryId: string;
+		/** A correction's reason written by the server (a recalculation), else the person's. */
+		reason: string | null;
 	}[] = [];
 	const current = new Map(
 		s0.entries
 			.filter((e) => e.stepKey === stepKey && !s0.entries.some((later) => later.corrects === e.id))
 			.map((e) => [e.fieldKey, e])
 	);
+	const own = (r: Record<string, string> | undefined, key: string) =>
+		r && Object.hasOwn(r, key) ? (r[key] ?? '') : '';
 	for (const field of found.step.fields) {
 		if (!enterable(field)) continue;
-		const raw = Object.hasOwn(input.values, field.key) ? (input.values[field.key] ?? '') : '';
-		const parsed = parseEntry(field, raw);
-		if (parsed === null) continue;
-		if (!parsed.ok) {
-			errors[field.key] = parsed.message;
-			continue;
+		const raw = own(input.values, field.key);
+		let resolved: Resolved | string;
+		if (field.kind === 'tightening') {
+			const wrench = own(input.wrenches, field.key);
+			if (!raw.trim() && !wrench.trim()) continue;
+			resolved = await resolveTightening(
+				field,
+				{ torque: raw, unit: own(input.units, field.key), wrench },
+				s0,
+				stepKey,
+				day
+			);
+		} else {
+			const parsed = parseEntry(field, raw, own(input.units, field.key));
+			if (parsed === null) continue;
+			if (!parsed.ok) {
+				errors[field.key] = parsed.message;
+				continue;
+			}
+			resolved = await resolveValue(field, parsed.value, s0, day, found.step.fields);
 		}
-		const resolved = await resolveValue(field, parsed.value, s0, day);
 		if (typeof resolved === 'string') {
 			errors[field.key] = resolved;
 			continue;
@@ -1058,7 +1200,7 @@ export async function saveStep(
 			else if (text.length > max)
 				errors[`${kind}:${field.key}`] = `Keep it under ${max} characters.`;
 		}
-		if (previous && JSON.stringify(previous.value) === JSON.stringify(resolved.value)) continue;
+		if (previous && canonicalize(previous.value) === canonicalize(resolved.value)) continue;
 		const within = withinLimits(field, resolved.value);
 		if (previous && !(input.reasons[field.key] ?? '').trim()) {
 			errors[`reason:${field.key}`] =
@@ -1070,7 +1212,76 @@ export async function saveStep(
 				'This value is outside its limits: describe what you found. A deviation is raised for Quality.';
 			reasonMissing = true;
 		}
-		changes.push({ field, resolved, within, corrects: previous });
+		changes.push({
+			field,
+			resolved,
+			within,
+			corrects: previous,
+			entryId: randomUUID(),
+			reason: null
+		});
+	}
+	// Calculated fields: computed here from the values in force after this save, never taken from the browser.
+	for (const field of found.step.fields) {
+		if (field.kind !== 'calculated' || !field.calculation || Object.keys(errors).length) continue;
+		const formula = formulas[field.calculation];
+		const sources = field.inputs.map((key) => {
+			const change = changes.find((c) => c.field.key === key);
+			if (change)
+				return { field: change.field, value: change.resolved.value, entryId: change.entryId };
+			const saved = current.get(key);
+			const f = found.step.fields.find((x) => x.key === key);
+			return saved && f ? { field: f, value: saved.value, entryId: saved.id } : null;
+		});
+		if (sources.some((x) => !x) || !sources.every((x) => x && 'number' in x.value)) continue;
+		const inputs = sources.map((x) => {
+			const v = x!.value as { number: number; unit?: string };
+			return { value: v.number, unit: v.unit ?? x!.field.unit };
+		});
+		const band = formula.bandFromEquipment ? bandOf(s0.attributes) : null;
+		const result = evaluate(field.calculation, inputs, field.decimals, band);
+		if (!result.ok) {
+			errors[field.key] = result.message;
+			continue;
+		}
+		const value: EntryValue = {
+			calculated: result.value.value,
+			unit: formula.unit,
+			formula: field.calculation,
+			expression: formula.expression,
+			inputs: sources.map((x, i) => ({
+				field: x!.field.key,
+				label: x!.field.label,
+				symbol: formula.inputs[i]!.symbol,
+				entryId: x!.entryId,
+				number: inputs[i]!.value,
+				unit: inputs[i]!.unit
+			})),
+			judgement: result.value.judgement,
+			band
+		};
+		const previous = current.get(field.key) ?? null;
+		if (previous && canonicalize(previous.value) === canonicalize(value)) continue;
+		const within = withinLimits(field, value);
+		if (within === false && !(input.deviations[field.key] ?? '').trim()) {
+			errors[`deviation:${field.key}`] = formula.bandFromEquipment
+				? 'The compression is outside the valve’s band: describe what you found. A deviation is raised for Quality.'
+				: 'This result is outside its limits: describe what you found. A deviation is raised for Quality.';
+			reasonMissing = true;
+		}
+		const corrected = sources
+			.filter((x) => changes.some((c) => c.entryId === x!.entryId && c.corrects))
+			.map((x) => x!.field.label.toLowerCase());
+		changes.push({
+			field,
+			resolved: { value },
+			within,
+			corrects: previous,
+			entryId: randomUUID(),
+			reason: previous
+				? `Recalculated from ${corrected.length ? `the corrected ${corrected.join(' and ')}` : 'new inputs'}.`
+				: null
+		});
 	}
 	if (Object.keys(errors).length) throw new EntryErrors(errors, reasonMissing ? 422 : 400);
 	if (!changes.length) throw new EntryErrors({ form: 'Nothing new to save on this step.' });
@@ -1099,7 +1310,8 @@ export async function saveStep(
 			);
 		const saved: { field: string; entryId: string; deviation: string | null }[] = [];
 		for (const c of changes) {
-			const entryId = randomUUID();
+			const entryId = c.entryId;
+			const reason = c.corrects ? (c.reason ?? input.reasons[c.field.key]!.trim()) : null;
 			const rec = await appendRecordEvent(tx, by, {
 				action: c.corrects ? 'work_order.entry_correct' : 'work_order.entry',
 				entityType: 'work_order',
@@ -1122,7 +1334,7 @@ export async function saveStep(
 							withinLimits: c.corrects.withinLimits
 						}
 					: null,
-				reason: c.corrects ? input.reasons[c.field.key]!.trim() : null,
+				reason,
 				clientAddress
 			});
 			await tx.insert(stepEntries).values({
@@ -1138,7 +1350,7 @@ export async function saveStep(
 				performedAt,
 				lateReason: late ? input.lateReason.trim() : null,
 				corrects: c.corrects?.id ?? null,
-				reason: c.corrects ? input.reasons[c.field.key]!.trim() : null,
+				reason,
 				...rec
 			});
 			let deviation: string | null = null;
@@ -1176,6 +1388,169 @@ export async function saveStep(
 			saved.push({ field: c.field.key, entryId, deviation });
 		}
 		return saved;
+	});
+}
+
+/**
+ * Guided tightening (6/10 item 8): ticks pass `pass` of a tightening field, with the database's
+ * time. Passes are ticked in order — the server refuses any other (409), and a database rule
+ * holds the same. Refused once the step is signed or the round's passes are saved in its entry.
+ */
+export async function tickPass(
+	user: User,
+	id: string,
+	stepKey: string,
+	fieldKey: string,
+	pass: number,
+	seen: number,
+	clientAddress: string | null = null
+) {
+	return passAction(user, id, stepKey, fieldKey, seen, clientAddress, { pass });
+}
+
+/** Starts the passes of a tightening field again (a new round), with the reason; the old ones stay. */
+export async function restartPasses(
+	user: User,
+	id: string,
+	stepKey: string,
+	fieldKey: string,
+	reason: string,
+	seen: number,
+	clientAddress: string | null = null
+) {
+	return passAction(user, id, stepKey, fieldKey, seen, clientAddress, { reason });
+}
+
+async function passAction(
+	user: User,
+	id: string,
+	stepKey: string,
+	fieldKey: string,
+	seen: number,
+	clientAddress: string | null,
+	what: { pass: number } | { reason: string }
+) {
+	const by = personOf(user);
+	const site = await siteOrFail();
+	const s0 = await loadState(db(), id);
+	if (!s0) throw new RecordError('No such work order.', undefined, 404);
+	const found = s0.steps.find((x) => x.step.key === stepKey);
+	const field = found?.step.fields.find((f) => f.key === fieldKey && f.kind === 'tightening');
+	if (!found || !field)
+		throw new RecordError('No such tightening field on this step.', undefined, 404);
+	const day = siteToday(site.timeZone);
+	await mustBeAssignedAndQualified(user, s0, 'tighten on this work order', day);
+	if ('reason' in what) {
+		const reason = what.reason.trim();
+		if (!reason) throw new EntryErrors({ reason: 'Say why the passes start again.' }, 422);
+		if (!isStorableText(reason) || reason.length > 500)
+			throw new EntryErrors({ reason: 'Keep the reason under 500 characters, in plain text.' });
+	} else if (!Number.isInteger(what.pass) || what.pass < 1 || what.pass > 20)
+		throw new EntryErrors({ pass: 'Tick one of the passes shown.' });
+	return db().transaction(async (tx) => {
+		await lockWorkOrder(tx, id);
+		const s = (await loadState(tx, id))!;
+		stillAssigned(user, s);
+		if (s.status !== 'in_progress')
+			throw new RecordError(
+				s.status === 'planned'
+					? 'Start the work order before tightening.'
+					: `This work order is ${workStatusLabels[s.status]}: passes can no longer be ticked.`,
+				undefined,
+				409
+			);
+		const step = s.steps.find((x) => x.step.key === stepKey)!;
+		if (step.status.revision !== seen) throw staleStep();
+		if (step.status.state === 'performed' || step.status.state === 'verified')
+			throw new RecordError(
+				'This step is signed: the tightening can no longer change on it.',
+				undefined,
+				409
+			);
+		const plan = planOf(field, s);
+		if (!plan.ok) throw new RecordError(plan.message, undefined, 409);
+		const progress = passProgress(s.passes, stepKey, fieldKey);
+		const saved = currentEntries(step.step, s.entries).find((e) => e.fieldKey === fieldKey);
+		const savedRound = saved && 'tightening' in saved.value ? saved.value.tightening.round : null;
+		let row: {
+			round: number;
+			pass: number;
+			name: string;
+			targetTorque: number | null;
+			reason: string | null;
+		};
+		if ('reason' in what) {
+			if (!progress.done.length)
+				throw new RecordError(
+					'No pass is ticked yet: there is nothing to start again.',
+					undefined,
+					409
+				);
+			row = {
+				round: progress.round + 1,
+				pass: 0,
+				name: 'Passes started again',
+				targetTorque: null,
+				reason: what.reason.trim()
+			};
+		} else {
+			if (savedRound === progress.round)
+				throw new RecordError(
+					'These passes are saved with the final torque: start the passes again, with a reason, to redo them.',
+					undefined,
+					409
+				);
+			if (progress.next > plan.value.length)
+				throw new RecordError(
+					'Every pass is ticked: enter the final torque and the wrench, then save.',
+					undefined,
+					409
+				);
+			if (what.pass !== progress.next)
+				throw new RecordError(
+					what.pass < progress.next
+						? `That pass is already ticked; next is: ${plan.value[progress.next - 1]!.name}.`
+						: `Tick the passes in order: next is ${plan.value[progress.next - 1]!.name}.`,
+					undefined,
+					409
+				);
+			const p = plan.value[what.pass - 1]!;
+			row = {
+				round: progress.round,
+				pass: what.pass,
+				name: p.name,
+				targetTorque: p.torque,
+				reason: null
+			};
+		}
+		const rowId = randomUUID();
+		const rec = await appendRecordEvent(tx, by, {
+			action: 'reason' in what ? 'work_order.tightening_restart' : 'work_order.tightening_pass',
+			entityType: 'work_order',
+			entityId: id,
+			newValues: {
+				passId: rowId,
+				step: stepKey,
+				field: fieldKey,
+				round: row.round,
+				pass: row.pass,
+				name: row.name,
+				targetTorque: row.targetTorque,
+				unit: 'N·m'
+			},
+			reason: row.reason,
+			clientAddress
+		});
+		await tx.insert(tighteningPasses).values({
+			id: rowId,
+			workOrderId: id,
+			stepKey,
+			fieldKey,
+			...row,
+			unit: 'N·m',
+			...rec
+		});
+		return row;
 	});
 }
 

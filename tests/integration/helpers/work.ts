@@ -1,4 +1,6 @@
+import { passesFor } from '../../../src/lib/calc/tightening';
 import { addDays, siteToday } from '../../../src/lib/fitness';
+import { passProgress } from '../../../src/lib/work';
 import type { User } from '../../../src/lib/server/auth/guard';
 import { seedDemoMasterData } from '../../../src/lib/server/db/demo/index';
 import { DEMO_PASSWORD, seedDemoAccounts, seedDemoPlant } from '../../../src/lib/server/db/seed';
@@ -74,8 +76,9 @@ export async function workDatabase(techqaTrainedOn: string[] = ['MP-DV-01']) {
 			'thickness-instrument': await instrumentOf('TG-01'),
 			'thickness-before': '4.20',
 			'thickness-after': '3.65',
-			'torque-instrument': await instrumentOf('TW-01'),
-			tightening: 'completed'
+			// Guided tightening (6/10): `save` ticks the passes first; the wrench goes with the final torque.
+			tightening: '6',
+			wrench: await instrumentOf('TW-01')
 		},
 		'limiter-after': { 'limiter-as-left': '12.5', 'limiter-matches': 'pass' },
 		'flow-check': {
@@ -99,13 +102,30 @@ export function stepActions(people: Record<string, User>, ip: string) {
 		key: string,
 		values: Record<string, string>,
 		more: Partial<work.StepSave> = {}
-	) =>
-		work.saveStep(
+	) => {
+		const { wrench, ...entered } = values;
+		const wrenches: Record<string, string> = {};
+		const wo = await view(id);
+		const found = wo.steps.find((s) => s.step.key === key);
+		for (const f of found?.step.fields.filter((f) => f.kind === 'tightening' && entered[f.key]) ??
+			[]) {
+			const plan = passesFor(
+				f.pattern,
+				Number(wo.attributes.bonnetFasteners),
+				Number(wo.attributes.fastenerTorqueNm)
+			);
+			if (!plan.ok) throw new Error(plan.message);
+			for (let n = passProgress(wo.passes, key, f.key).next; n <= plan.value.length; n++)
+				await work.tickPass(people[who]!, id, key, f.key, n, await stepSeen(id, key), ip);
+			if (wrench) wrenches[f.key] = wrench;
+		}
+		return work.saveStep(
 			people[who]!,
 			id,
 			key,
 			{
-				values,
+				values: entered,
+				wrenches,
 				reasons: {},
 				deviations: {},
 				performedAt: null,
@@ -115,6 +135,7 @@ export function stepActions(people: Record<string, User>, ip: string) {
 			},
 			ip
 		);
+	};
 	const perform = async (who: string, id: string, key: string, password = DEMO_PASSWORD) =>
 		work.performStep(people[who]!, id, key, password, await stepSeen(id, key), ip);
 	const verify = async (who: string, id: string, key: string, password = DEMO_PASSWORD) =>

@@ -10,8 +10,15 @@ import * as procedures from '../../procedures';
 import * as qualifications from '../../qualifications';
 import { currentSite } from '../../plant';
 import type { Recorder } from '../../records';
+import type { ProcedureContent } from '../../../schemas/procedure';
 import { accounts } from '../schema/index';
-import { diaphragmReplacement, retighteningCheck, sealInspection } from './procedures';
+import {
+	diaphragmReplacement,
+	diaphragmReplacementChange,
+	diaphragmReplacementV1,
+	retighteningCheck,
+	sealInspection
+} from './procedures';
 export { seedDemoWork, type WorkSeedResult } from './work';
 export { closeDatabase } from '../index';
 
@@ -427,10 +434,36 @@ export async function seedDemoMasterData(password: string): Promise<MasterSeedRe
 	const demoProcedures = [
 		// The re-tightening check first: the diaphragm replacement names it as its follow-up.
 		{ code: 'MP-DV-02', content: retighteningCheck },
-		{ code: 'MP-DV-01', content: diaphragmReplacement },
+		{ code: 'MP-DV-01', content: diaphragmReplacementV1, next: diaphragmReplacement },
 		{ code: 'MP-PU-01', content: sealInspection }
 	];
 	const procedureIds = new Map<string, string>();
+	const plannerRecorder = {
+		kind: 'person' as const,
+		id: planner.id,
+		name: planner.name,
+		roles: planner.roles
+	};
+	/** Version 2 through the normal path: a new draft with its reason, the content, Quality's approval. */
+	const nextVersion = async (procedureId: string, content: ProcedureContent) => {
+		const shown = (await procedures.getProcedure(procedureId))!.versions[0]!;
+		if (shown.version >= 2 && shown.status === 'approved') return;
+		const versionId =
+			shown.status === 'draft'
+				? shown.id
+				: await procedures.startNewVersion(
+						plannerRecorder,
+						procedureId,
+						diaphragmReplacementChange
+					);
+		const revision = await procedures.saveDraft(
+			plannerRecorder,
+			versionId,
+			shown.status === 'draft' ? shown.revision : 1,
+			content
+		);
+		await procedures.approveVersion(quality, versionId, revision, password);
+	};
 	for (const p of demoProcedures) {
 		const found = await procedures.findProcedureByCode(p.code);
 		if (found) {
@@ -438,8 +471,10 @@ export async function seedDemoMasterData(password: string): Promise<MasterSeedRe
 			// A run stopped between writing and approving leaves a draft: approve it now.
 			if (!(await procedures.effectiveVersion(found))) {
 				const draft = (await procedures.getProcedure(found))!.versions[0]!;
-				await procedures.approveVersion(quality, draft.id, draft.revision, password);
+				if (draft.version === 1 || !p.next)
+					await procedures.approveVersion(quality, draft.id, draft.revision, password);
 			}
+			if (p.next) await nextVersion(found, p.next);
 			continue;
 		}
 		const { id, versionId } = await procedures.createProcedure(
@@ -449,6 +484,7 @@ export async function seedDemoMasterData(password: string): Promise<MasterSeedRe
 			p.content
 		);
 		await procedures.approveVersion(quality, versionId, 1, password);
+		if (p.next) await nextVersion(id, p.next);
 		procedureIds.set(p.code, id);
 		added.procedures++;
 	}

@@ -193,13 +193,21 @@ export const diaphragmReplacement: ProcedureContent = {
 				field('compression', 'Diaphragm compression', 'calculated', {
 					unit: '%',
 					decimals: 1,
-					calculation: 'diaphragm_compression'
+					calculation: 'diaphragm_compression',
+					inputs: ['thickness-before', 'thickness-after']
 				}),
-				field('torque-instrument', 'Torque wrench', 'instrument', {
-					instrumentKind: 'Torque wrench'
-				}),
-				field('tightening', 'Cross-pattern tightening passes', 'tightening')
-			]
+				field('tightening', 'Cross-pattern tightening passes', 'tightening', {
+					hint: 'Tick each pass when every fastener of it is done; then the final torque and the wrench.'
+				})
+			],
+			{
+				cautions: [
+					{
+						hazard: 'stored_energy',
+						text: 'Over-tightening can crack the bonnet or extrude the diaphragm: never exceed the manufacturer’s torque, and use a calibrated torque wrench.'
+					}
+				]
+			}
 		),
 		step(
 			'limiter-after',
@@ -224,7 +232,7 @@ export const diaphragmReplacement: ProcedureContent = {
 					decimals: 1,
 					limitType: 'range',
 					min: 40,
-					max: null
+					max: 80
 				}),
 				field('no-leak', 'No leak at the bonnet or the actuator', 'pass_fail')
 			],
@@ -237,6 +245,43 @@ export const diaphragmReplacement: ProcedureContent = {
 			[field('locks-removed', 'Locks and tags removed, line restored', 'pass_fail')]
 		)
 	]
+};
+
+/** Why version 2 of MP-DV-01 was written: the reason of its new draft (the demo shows a version history). */
+export const diaphragmReplacementChange =
+	'Guided cross-pattern tightening and the diaphragm compression calculated against the valve’s band; flow judged against a range.';
+
+/**
+ * Version 1 of MP-DV-01, as approved before guided tightening: the compression was worked out by
+ * hand and the passes confirmed with one tick. Version 2 (`diaphragmReplacement`) replaces it
+ * through the normal approval.
+ */
+export const diaphragmReplacementV1: ProcedureContent = {
+	...diaphragmReplacement,
+	steps: diaphragmReplacement.steps.map((s) =>
+		s.key === 'tighten'
+			? {
+					...s,
+					cautions: [],
+					fields: [
+						...s.fields.filter((f) => f.kind === 'instrument' || f.kind === 'number'),
+						field('torque-instrument', 'Torque wrench', 'instrument', {
+							instrumentKind: 'Torque wrench'
+						}),
+						field(
+							'tightened',
+							'Tightened in a cross pattern, in passes, to the manufacturer’s torque',
+							'pass_fail'
+						)
+					]
+				}
+			: s.key === 'flow-check'
+				? {
+						...s,
+						fields: s.fields.map((f) => (f.key === 'flow' ? { ...f, max: null } : f))
+					}
+				: s
+	)
 };
 
 export const retighteningCheck: ProcedureContent = {
@@ -281,7 +326,7 @@ export const retighteningCheck: ProcedureContent = {
 				field('torque-instrument', 'Torque wrench', 'instrument', {
 					instrumentKind: 'Torque wrench'
 				}),
-				field('tightening', 'Check pass at final torque', 'tightening'),
+				field('tightening', 'Check pass at final torque', 'tightening', { pattern: 'check' }),
 				field('fastener-turned', 'A fastener turned before reaching the torque', 'choice', {
 					options: ['None turned', 'One or more turned (note which)']
 				})

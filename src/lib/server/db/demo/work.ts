@@ -1,3 +1,4 @@
+import { passesFor } from '../../../calc/tightening';
 import { count, eq } from 'drizzle-orm';
 import { addDays, siteToday } from '../../../fitness';
 import type { Priority, WorkKind } from '../../../work';
@@ -141,13 +142,30 @@ export async function seedDemoWork(password: string): Promise<WorkSeedResult> {
 		key: string,
 		values: Record<string, string>,
 		more: { reasons?: Record<string, string>; deviations?: Record<string, string> } = {}
-	) =>
-		work.saveStep(
+	) => {
+		// Guided tightening: the passes are ticked in order first; the wrench goes with the final torque.
+		const { wrench, ...entered } = values;
+		const wo = await view(id);
+		const step = wo.steps.find((s) => s.step.key === key)!.step;
+		const wrenches: Record<string, string> = {};
+		for (const f of step.fields.filter((f) => f.kind === 'tightening' && entered[f.key])) {
+			const plan = passesFor(
+				f.pattern,
+				Number(wo.attributes.bonnetFasteners),
+				Number(wo.attributes.fastenerTorqueNm)
+			);
+			if (!plan.ok) throw new Error(plan.message);
+			for (let n = 1; n <= plan.value.length; n++)
+				await work.tickPass(who, id, key, f.key, n, await stepSeen(id, key), ip);
+			wrenches[f.key] = wrench!;
+		}
+		return work.saveStep(
 			who,
 			id,
 			key,
 			{
-				values,
+				values: entered,
+				wrenches,
 				reasons: more.reasons ?? {},
 				deviations: more.deviations ?? {},
 				performedAt: null,
@@ -156,13 +174,19 @@ export async function seedDemoWork(password: string): Promise<WorkSeedResult> {
 			},
 			ip
 		);
+	};
 	const perform = async (who: User, id: string, key: string) =>
 		work.performStep(who, id, key, password, await stepSeen(id, key), ip);
 	const verify = async (who: User, id: string, key: string) =>
 		work.verifyStep(who, id, key, password, await stepSeen(id, key), ip);
 
 	/** Values of every step of MP-DV-01 that meet their limits, for a valve fitted from `lotId`. */
-	const diaphragmValues = (lotId: string, permit: string, asFound: string): Values => ({
+	const diaphragmValues = (
+		lotId: string,
+		permit: string,
+		asFound: string,
+		torque: number
+	): Values => ({
 		isolate: { 'loto-permit': permit, depressurised: 'pass', 'surface-temperature': '28' },
 		'as-found': { 'as-found-condition': asFound },
 		'limiter-before': { 'limiter-instrument': instrument('CA-01'), 'limiter-as-found': '12.5' },
@@ -175,8 +199,9 @@ export async function seedDemoWork(password: string): Promise<WorkSeedResult> {
 			'thickness-instrument': instrument('TG-01'),
 			'thickness-before': '4.20',
 			'thickness-after': '3.65',
-			'torque-instrument': instrument('TW-01'),
-			tightening: 'completed'
+			// The final torque from the valve's data (the passes are ticked by `save`).
+			tightening: String(torque),
+			wrench: instrument('TW-01')
 		},
 		'limiter-after': { 'limiter-as-left': '12.5', 'limiter-matches': 'pass' },
 		'flow-check': { 'flow-instrument': instrument('FM-01'), flow: '52.0', 'no-leak': 'pass' },
@@ -255,7 +280,8 @@ export async function seedDemoWork(password: string): Promise<WorkSeedResult> {
 		const values = diaphragmValues(
 			await lot('DIA-025-EP', 'L25-0412'),
 			'LP-2031',
-			'Leak at the bonnet'
+			'Leak at the bonnet',
+			6
 		);
 		await execute(id, values, { until: 'as-found' });
 		// The next step's values are entered, not yet signed.
@@ -276,7 +302,8 @@ export async function seedDemoWork(password: string): Promise<WorkSeedResult> {
 		const values = diaphragmValues(
 			await lot('DIA-025-EP', 'L25-0412'),
 			'LP-2032',
-			'No defect seen'
+			'No defect seen',
+			6
 		);
 		await execute(id, values, { until: 'new-diaphragm', verify: false });
 		added.awaitingVerification++;
@@ -295,7 +322,8 @@ export async function seedDemoWork(password: string): Promise<WorkSeedResult> {
 		const values = diaphragmValues(
 			await lot('DIA-040-EP', 'L25-0630'),
 			'LP-2027',
-			'Leak through the seat'
+			'Leak through the seat',
+			10
 		);
 		values['flow-check'] = { ...values['flow-check']!, flow: '36.5' };
 		await execute(id, values, {
@@ -322,7 +350,8 @@ export async function seedDemoWork(password: string): Promise<WorkSeedResult> {
 		const values = diaphragmValues(
 			await lot('DIA-040-EP', 'L25-0630'),
 			'LP-2019',
-			'No defect seen'
+			'No defect seen',
+			10
 		);
 		// A typing error first, corrected with its reason: the old entry stays in the record.
 		await save(tech1, id, 'isolate', { ...values.isolate!, 'surface-temperature': '18' });
@@ -349,7 +378,8 @@ export async function seedDemoWork(password: string): Promise<WorkSeedResult> {
 		const values = diaphragmValues(
 			await lot('DIA-040-EP', 'L25-0630'),
 			'LP-2024',
-			'No defect seen'
+			'No defect seen',
+			10
 		);
 		await execute(id, values);
 		await signExecuted(id);

@@ -3,6 +3,7 @@ import {
 	boolean,
 	check,
 	date,
+	doublePrecision,
 	index,
 	integer,
 	jsonb,
@@ -160,6 +161,36 @@ export const stepSignoffs = pgTable(
 			'step_signoffs_complete',
 			sql`(${t.kind} = 'returned' and ${t.reason} is not null) or (${t.kind} <> 'returned' and ${t.signatureId} is not null)`
 		)
+	]
+);
+
+/**
+ * Guided tightening (6/10): each pass ticked on a tightening field, in order, with the database's
+ * time, and each restart of the passes (pass 0 of a new round, with its reason). The step entry
+ * of the field, saved after the last pass, lists these rows; nothing here is ever changed.
+ */
+export const tighteningPasses = pgTable(
+	'tightening_passes',
+	{
+		id: uuid('id').primaryKey(),
+		workOrderId: uuid('work_order_id')
+			.notNull()
+			.references(() => workOrders.id),
+		stepKey: text('step_key').notNull(),
+		fieldKey: text('field_key').notNull(),
+		round: integer('round').notNull(),
+		pass: integer('pass').notNull(),
+		/** The pass's name and target as shown when it was ticked (torque in the equipment's unit). */
+		name: text('name').notNull(),
+		targetTorque: doublePrecision('target_torque'),
+		unit: text('unit').notNull(),
+		reason: text('reason'),
+		...recorded()
+	},
+	(t) => [
+		unique('tightening_passes_once').on(t.workOrderId, t.stepKey, t.fieldKey, t.round, t.pass),
+		check('tightening_passes_numbers', sql`${t.round} >= 1 and ${t.pass} >= 0`),
+		check('tightening_passes_restart_reason', sql`(${t.pass} = 0) = (${t.reason} is not null)`)
 	]
 );
 

@@ -13,7 +13,8 @@ import { isQualified } from '$lib/server/qualifications';
 import { RecordError } from '$lib/server/records';
 import * as work from '$lib/server/work-orders';
 import { fromLocalInput, localInputValue } from '$lib/time';
-import { rawOf, stepDone } from '$lib/work';
+import { passesFor } from '$lib/calc/tightening';
+import { bandOf, passProgress, rawOf, stepDone, turOf } from '$lib/work';
 import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async (event) => {
@@ -26,9 +27,10 @@ export const load: PageServerLoad = async (event) => {
 	const site = (await currentSite())!;
 	const today = siteToday(site.timeZone);
 	const kinds = [
-		...new Set(
-			current.step.fields.filter((f) => f.kind === 'instrument').map((f) => f.instrumentKind)
-		)
+		...new Set([
+			...current.step.fields.filter((f) => f.kind === 'instrument').map((f) => f.instrumentKind),
+			...(current.step.fields.some((f) => f.kind === 'tightening') ? ['Torque wrench'] : [])
+		])
 	];
 	const instruments = Object.fromEntries(
 		await Promise.all(
@@ -38,11 +40,58 @@ export const load: PageServerLoad = async (event) => {
 					id: i.id,
 					code: i.code,
 					description: i.description,
-					dueOn: i.dueOn
+					dueOn: i.dueOn,
+					// Z540.3: how well it resolves each tolerance of this step (warning below 4:1).
+					tur: turOf(current.step.fields, i)
 				}))
 			])
 		)
-	) as Record<string, { id: string; code: string; description: string; dueOn: string | null }[]>;
+	) as Record<
+		string,
+		{
+			id: string;
+			code: string;
+			description: string;
+			dueOn: string | null;
+			tur: { field: string; ratio: number }[];
+		}[]
+	>;
+	// Guided tightening: the passes from the valve's data (manufacturer's figures), and those ticked.
+	const attributes = found.equipment.attributes as Record<string, unknown>;
+	const tightening = Object.fromEntries(
+		current.step.fields
+			.filter((f) => f.kind === 'tightening')
+			.map((f) => {
+				const torque = attributes.fastenerTorqueNm;
+				const plan = passesFor(
+					f.pattern,
+					Number(attributes.bonnetFasteners),
+					typeof torque === 'number' ? torque : null
+				);
+				const progress = passProgress(found.passes, current.step.key, f.key);
+				return [
+					f.key,
+					{
+						fasteners: Number(attributes.bonnetFasteners) || 0,
+						passes: plan.ok ? plan.value : [],
+						refused: plan.ok ? null : plan.message,
+						round: progress.round,
+						done: progress.done.map((p) => ({
+							pass: p.pass,
+							name: p.name,
+							at: p.recordedAt,
+							by: p.recordedByName
+						})),
+						restarts: progress.restarts.map((p) => ({
+							round: p.round,
+							reason: p.reason ?? '',
+							at: p.recordedAt,
+							by: p.recordedByName
+						}))
+					}
+				];
+			})
+	);
 	const hasLots = current.step.fields.some((f) => f.kind === 'part_lot');
 	const mine = found.entries.filter(
 		(e) => e.stepKey === current.step.key && !found.entries.some((x) => x.corrects === e.id)
@@ -70,6 +119,22 @@ export const load: PageServerLoad = async (event) => {
 		deviations: found.deviations.filter((d) => d.stepKey === current.step.key),
 		signatures: found.signatures,
 		raw: Object.fromEntries(mine.map((e) => [e.fieldKey, rawOf(e.value)])),
+		units: Object.fromEntries(
+			mine.flatMap((e) =>
+				'number' in e.value && e.value.unit
+					? [[e.fieldKey, e.value.unit]]
+					: 'tightening' in e.value
+						? [[e.fieldKey, e.value.finalTorque.unit]]
+						: []
+			)
+		) as Record<string, string>,
+		wrenches: Object.fromEntries(
+			mine.flatMap((e) =>
+				'tightening' in e.value ? [[e.fieldKey, e.value.wrench.instrumentId]] : []
+			)
+		) as Record<string, string>,
+		tightening,
+		band: bandOf(attributes),
 		instruments,
 		lots: hasLots ? await lotsOfSite(site.id) : [],
 		materialCode: String(found.equipment.attributes.diaphragmMaterialCode ?? ''),
@@ -123,6 +188,8 @@ export const actions: Actions = {
 		const values: Record<string, string> = Object.create(null);
 		const reasons: Record<string, string> = Object.create(null);
 		const deviations: Record<string, string> = Object.create(null);
+		const units: Record<string, string> = Object.create(null);
+		const wrenches: Record<string, string> = Object.create(null);
 		const typed: Record<string, string> = {};
 		const tooLong: Record<string, string> = {};
 		for (const [name, v] of body) {
@@ -138,6 +205,8 @@ export const actions: Actions = {
 			if (kind === 'value') values[key] = v;
 			else if (kind === 'reason') reasons[key] = v;
 			else if (kind === 'deviation') deviations[key] = v;
+			else if (kind === 'unit') units[key] = v;
+			else if (kind === 'wrench') wrenches[key] = v;
 		}
 		if (Object.keys(tooLong).length) return fail(400, { typed, errors: tooLong });
 		const site = (await currentSite())!;
@@ -158,6 +227,8 @@ export const actions: Actions = {
 					values,
 					reasons,
 					deviations,
+					units,
+					wrenches,
 					performedAt,
 					lateReason: String(body.get('lateReason') ?? ''),
 					seen
@@ -173,6 +244,65 @@ export const actions: Actions = {
 			if (e instanceof work.EntryErrors) return fail(e.status, { typed, errors: e.fields });
 			if (e instanceof RecordError)
 				return fail(e.status, { typed, errors: { form: e.message }, stale: e.status === 409 });
+			throw e;
+		}
+	},
+	/** Guided tightening: one pass ticked (in order), or the passes started again with a reason. */
+	pass: async (event) => {
+		const user = await requireRole(event, 'technician');
+		let body: FormData;
+		try {
+			body = await event.request.formData();
+		} catch {
+			return fail(400, { passError: 'The form could not be read: reload the page.' });
+		}
+		// The ticks are buttons of the step's form: what was typed there comes back untouched.
+		const typed: Record<string, string> = {};
+		for (const [name, v] of body)
+			if (
+				typeof v === 'string' &&
+				v.length <= 5000 &&
+				name.includes(':') &&
+				!name.startsWith('restartReason:')
+			)
+				typed[name] = v;
+		const seenText = String(body.get('seen') ?? '');
+		const tick = String(body.get('tick') ?? '');
+		const restart = String(body.get('restart') ?? '');
+		const [field, passText] = restart ? [restart, ''] : tick.split(':', 2);
+		if (!/^\d{1,9}$/.test(seenText) || !/^[a-z0-9][a-z0-9-]{0,39}$/.test(field ?? ''))
+			return fail(400, { typed, passError: 'Reload the page and tick the pass again.' });
+		if (!restart && !/^\d{1,2}$/.test(passText ?? ''))
+			return fail(400, { typed, passError: 'Tick one of the passes shown.' });
+		try {
+			const row = restart
+				? await work.restartPasses(
+						user,
+						event.params.id,
+						event.params.key,
+						field!,
+						String(body.get(`restartReason:${field}`) ?? '').slice(0, 2000),
+						Number(seenText),
+						event.getClientAddress()
+					)
+				: await work.tickPass(
+						user,
+						event.params.id,
+						event.params.key,
+						field!,
+						Number(passText),
+						Number(seenText),
+						event.getClientAddress()
+					);
+			return {
+				typed,
+				passText: restart ? 'The passes start again from the first.' : `Ticked: ${row.name}.`
+			};
+		} catch (e) {
+			if (e instanceof work.EntryErrors)
+				return fail(e.status, { typed, passError: Object.values(e.fields)[0] ?? e.message });
+			if (e instanceof RecordError)
+				return fail(e.status, { typed, passError: e.message, stale: e.status === 409 });
 			throw e;
 		}
 	},
