@@ -128,11 +128,35 @@ test('a Planner writes a draft with three typed steps; Quality approves it with 
 		.fill('Measure the flow with a calibrated flow meter.');
 	await planner.getByRole('button', { name: 'Add a field to step 3' }).click();
 	f = await fillField(planner, 3, 1, { label: 'Flow meter used', kind: 'Reference instrument' });
+	// A calculated Kv (6/10) reads two number fields of its step: saved first without its inputs.
+	await planner.getByRole('button', { name: 'Add a field to step 3' }).click();
+	let q = await fillField(planner, 3, 2, { label: 'Flow', kind: 'Number' });
+	await q.getByLabel('Unit').fill('L/min');
+	await planner.getByRole('button', { name: 'Add a field to step 3' }).click();
+	q = await fillField(planner, 3, 3, { label: 'Pressure drop', kind: 'Number' });
+	await q.getByLabel('Unit').fill('kPa');
+	await planner.getByRole('button', { name: 'Add a field to step 3' }).click();
+	const kvField = await fillField(planner, 3, 4, { label: 'Flow coefficient', kind: 'Calculated' });
+	await kvField.getByLabel('Calculation').selectOption({ label: 'Flow coefficient Kv' });
+	await expect(kvField).toContainText('Kv = Q · √((ρ/ρ₀) / Δp)');
 	await planner.getByRole('button', { name: 'Save the draft' }).click();
 	await expect(planner.getByRole('alert')).toContainText('Nothing was saved');
 	await expect(f.getByText('Say which kind of instrument')).toBeVisible();
+	await expect(kvField.getByText(/Choose the 2 fields this calculation reads/)).toBeVisible();
 	await shot(planner, 'procedure-editor-errors');
 	await f.getByLabel('Kind of instrument').fill('Flow meter');
+	// Only number fields whose unit converts are offered: L/min for Q, kPa for Δp.
+	await expect(kvField.getByLabel(/^Flow \(Q\) from/).locator('option')).toHaveText([
+		'Choose a number field of this step…',
+		'Flow (L/min)'
+	]);
+	await kvField.getByLabel(/^Flow \(Q\) from/).selectOption({ label: 'Flow (L/min)' });
+	await kvField
+		.getByLabel(/^Pressure drop across the valve/)
+		.selectOption({ label: 'Pressure drop (kPa)' });
+	await kvField.getByLabel('Limits').selectOption({ label: 'Minimum / maximum' });
+	await kvField.getByLabel(/^Minimum/).fill('3');
+	await shot(planner, 'procedure-editor-calculated');
 	await planner.getByRole('button', { name: 'Save the draft' }).click();
 
 	await expect(

@@ -90,7 +90,7 @@ test('a Planner plans the diaphragm replacement on the effective procedure versi
 		page.getByRole('heading', { level: 1, name: new RegExp(`WO-\\d{4}-\\d{4} · ${TAG}`) })
 	).toBeVisible();
 	await expect(page.getByText('Planned').first()).toBeVisible();
-	await expect(page.getByText('MP-DV-01 version 1')).toBeVisible();
+	await expect(page.getByText('MP-DV-01 version 2')).toBeVisible();
 	workUrl = new URL(page.url()).pathname;
 
 	// The plan changes only with a reason; the earlier plan stays listed.
@@ -201,13 +201,65 @@ test('tech1 reads every caution, starts the work (Out of service) and executes e
 	await page
 		.getByLabel('Thickness gauge', { exact: true })
 		.selectOption(await optionValue(page, 'Thickness gauge', /^TG-01/));
+	// The compression is shown as it is typed (the server computes the stored value itself):
+	// over the valve's band first (a misread), then within it. Band 10–15 % from the valve's data.
+	const compression = page.getByRole('region', { name: 'Diaphragm compression' });
+	await expect(compression).toContainText('c = (t₀ − t₁) / t₀ × 100 %');
 	await page.getByLabel('Diaphragm thickness before tightening').fill('4.20');
+	await page.getByLabel('Diaphragm thickness after tightening').fill('3.20');
+	await expect(compression.getByRole('status')).toContainText('23.8 %');
+	await expect(compression.getByRole('status')).toContainText(
+		'Over the band: the diaphragm is over-compressed'
+	);
+	await expect(compression.getByLabel('Outside the band: describe what you found')).toBeVisible();
+	await shot(page, 'work-execute-compression-over');
+	await page.getByLabel('Diaphragm thickness after tightening').fill('4.50');
+	await expect(compression.getByRole('status')).toContainText(
+		'The thickness after tightening cannot be more than before'
+	);
+	await expect(compression.getByRole('status')).not.toContainText('NaN');
 	await page.getByLabel('Diaphragm thickness after tightening').fill('3.65');
-	await page
-		.getByLabel('Torque wrench', { exact: true })
-		.selectOption(await optionValue(page, 'Torque wrench', /^TW-01/));
-	await page.getByLabel(/Every pass done in the cross pattern/).check();
+	await expect(compression.getByRole('status')).toContainText('13.1 %');
+	await expect(compression.getByRole('status')).toContainText('Within the band');
+	// Enter in a field saves the values (it does not tick a pass).
+	await page.getByLabel('Diaphragm thickness after tightening').press('Enter');
+	await expect(page.getByRole('status').filter({ hasText: /^Saved 4 values/ })).toBeVisible();
+	await expect(compression).toContainText('Saved: 13.1 %');
+	await shot(page, 'work-execute-compression-within');
+
+	// Guided tightening: the bolt circle and the passes from the valve's data (4 fasteners, 10 N·m).
+	const tightening = page.getByRole('group', { name: 'Cross-pattern tightening passes' });
+	await expect(tightening.getByRole('img', { name: /Bolt circle of 4 fasteners/ })).toBeVisible();
+	await expect(tightening).toContainText(
+		'manufacturer’s instructions and the site’s procedures govern'
+	);
+	await expect(tightening).toContainText('1 – 3 – 2 – 4');
+	await expect(tightening.getByRole('button', { name: /^Tick pass/ })).toHaveCount(1);
+	for (const [n, target] of [
+		[1, 'hand-tight'],
+		[2, '3.00 N·m'],
+		[3, '7.00 N·m'],
+		[4, '10.0 N·m'],
+		[5, '10.0 N·m']
+	] as const) {
+		await expect(tightening.getByRole('listitem').nth(n - 1)).toContainText(`Target ${target}`);
+		await tightening.getByRole('button', { name: `Tick pass ${n} done` }).click();
+		await expect(tightening.getByRole('listitem').nth(n - 1)).toContainText('✓ Ticked');
+		// After a tick the next pass's button has the focus (keyboard use at the valve).
+		if (n < 5)
+			await expect(
+				tightening.getByRole('button', { name: `Tick pass ${n + 1} done` })
+			).toBeFocused();
+	}
+	await tightening.getByLabel('Final torque the wrench was set to').fill('10');
+	await tightening
+		.getByLabel('Torque wrench used')
+		.selectOption(await optionValue(page, 'Torque wrench used', /^TW-01/));
+	await shot(page, 'work-execute-tightening');
 	await save(page);
+	await expect(
+		page.getByText(/5 passes on 4 fasteners, final torque 10 N·m with TW-01/).first()
+	).toBeVisible();
 	await performStep(page, 9);
 
 	await openStep(page, 10);

@@ -265,7 +265,7 @@ describe('role × route matrix', () => {
 		expect(
 			(await send(cookies.get('inspector')!, { tick: 'tightening:1', seen: '0' })).status
 		).toBe(403);
-		for (const body of [
+		for (const body of <Record<string, string>[]>[
 			{ tick: 'tightening:1' },
 			{ tick: 'tightening:x', seen: '0' },
 			{ tick: 'Tightening; drop table:1', seen: '0' },

@@ -239,7 +239,7 @@ describe('guided tightening: passes and their order', () => {
 	it('a check pass is one pass at 100 % in the cross order (4 fasteners: 1-3-2-4, PCC-1 legacy, from memory)', () => {
 		expect(value(checkPasses(4, 6))).toEqual([
 			{
-				name: 'Check pass at 100 %, in the cross pattern',
+				name: 'Check at 100 % in the cross pattern',
 				share: 1,
 				torque: 6,
 				order: 'cross',

@@ -62,22 +62,28 @@ export function tighteningPasses(n: number, finalTorque: number | null): Calc<Pa
 			sequence: cross.value
 		},
 		{
-			name: 'Pass 1, about 30 %',
+			name: 'About 30 % of the final torque',
 			share: 0.3,
 			torque: at(0.3),
 			order: 'cross',
 			sequence: cross.value
 		},
 		{
-			name: 'Pass 2, about 70 %',
+			name: 'About 70 % of the final torque',
 			share: 0.7,
 			torque: at(0.7),
 			order: 'cross',
 			sequence: cross.value
 		},
-		{ name: 'Pass 3, 100 %', share: 1, torque: at(1), order: 'cross', sequence: cross.value },
 		{
-			name: 'Circular pass at 100 % until no nut turns',
+			name: 'Final torque (100 %)',
+			share: 1,
+			torque: at(1),
+			order: 'cross',
+			sequence: cross.value
+		},
+		{
+			name: 'Circular at 100 % until no nut turns',
 			share: 1,
 			torque: at(1),
 			order: 'circular',
@@ -91,7 +97,7 @@ export function checkPasses(n: number, finalTorque: number | null): Calc<Pass[]>
 	const full = tighteningPasses(n, finalTorque);
 	if (!full.ok) return full;
 	const last = full.value[3]!;
-	return ok([{ ...last, name: 'Check pass at 100 %, in the cross pattern' }]);
+	return ok([{ ...last, name: 'Check at 100 % in the cross pattern' }]);
 }
 
 /** The passes a tightening field guides, by its pattern. */
