@@ -53,6 +53,21 @@ export default defineConfig({
 			PORT: String(port),
 			ORIGIN: origin,
 			AUTH_SECRET: process.env.E2E_AUTH_SECRET ?? 'e2e-only-secret-not-for-production',
+			// The S3 and SMTP fakes of this test run (scripts/test.js starts them).
+			...Object.fromEntries(
+				[
+					'S3_ENDPOINT',
+					'S3_REGION',
+					'S3_BUCKET',
+					'S3_ACCESS_KEY_ID',
+					'S3_SECRET_ACCESS_KEY',
+					'S3_FORCE_PATH_STYLE',
+					'S3_CREATE_BUCKET',
+					'SMTP_URL',
+					'MAIL_FROM',
+					'AWS_SDK_JS_NODE_VERSION_SUPPORT_WARNING_DISABLED'
+				].map((k) => [k, process.env[k] ?? ''])
+			),
 			// The lockout journey signs in wrongly five times in a row; the progressive delay is
 			// tested against the database in tests/integration/sign-in.spec.ts.
 			AUTH_DELAY_FREE_PER_USERNAME: '5',

@@ -8,13 +8,19 @@ ensureDependencies();
 const { prepareDatabase } = await import('./lib/database.js');
 const { stopCluster } = await import('./lib/cluster.js');
 const { localSecrets, root } = await import('./lib/local.js');
+const { fakeSettings, startFakes } = await import('./lib/fakes.js');
 
 const { appUrl, startedCluster } = await prepareDatabase();
+const fakes =
+	process.env.S3_ENDPOINT || process.env.SMTP_URL
+		? { env: {}, stop() {} }
+		: await startFakes(fakeSettings.start());
 const vite = spawn(join(root, 'node_modules', '.bin', 'vite'), ['dev', ...process.argv.slice(2)], {
 	cwd: root,
 	stdio: 'inherit',
 	env: {
 		...process.env,
+		...fakes.env,
 		DATABASE_URL: appUrl,
 		AUTH_SECRET: process.env.AUTH_SECRET ?? localSecrets().authSecret
 	}
@@ -23,6 +29,7 @@ for (const signal of /** @type {const} */ (['SIGINT', 'SIGTERM'])) {
 	process.on(signal, () => vite.exitCode === null && vite.kill('SIGTERM'));
 }
 vite.on('exit', (code) => {
+	fakes.stop();
 	if (startedCluster) stopCluster();
 	process.exit(code ?? 0);
 });

@@ -28,6 +28,7 @@ const { ensureDebianPackages } = await import('./lib/system.js');
 const cluster = await import('./lib/cluster.js');
 const { runMigrations, runSeed } = await import('./lib/database.js');
 const { buildIfStale } = await import('./lib/app.js');
+const { fakeSettings, startFakes } = await import('./lib/fakes.js');
 
 const TEMPLATE = 'countersign_test_template';
 const E2E_DATABASE = 'countersign_test_e2e';
@@ -46,7 +47,12 @@ ensureDebianPackages([
 				}
 			]
 		: []),
-	...(wants('e2e') ? [{ name: 'chromium', marker: '/usr/bin/chromium', why: 'browser tests' }] : [])
+	...(wants('e2e')
+		? [{ name: 'chromium', marker: '/usr/bin/chromium', why: 'browser tests' }]
+		: []),
+	...(needsDatabase
+		? [{ name: 'poppler-utils', marker: '/usr/bin/pdftotext', why: 'checking PDF records' }]
+		: [])
 ]);
 
 let startedCluster = false;
@@ -60,6 +66,9 @@ if (needsDatabase) {
 	await runMigrations(localUrl('owner', TEMPLATE));
 	say(`template database ${TEMPLATE} migrated`);
 }
+// The S3 and SMTP fakes on ports of their own, with a fresh bucket and mail folder for this run.
+const fakes = needsDatabase ? await startFakes(fakeSettings.test()) : { env: {}, stop() {} };
+const fakeEnv = { ...fakes.env, S3_CREATE_BUCKET: 'true' };
 
 /** @type {{ part: string, passed: number, failed: number, ok: boolean, note?: string }[]} */
 const outcomes = [];
@@ -125,7 +134,8 @@ for (const project of ['unit', 'integration']) {
 			...extra
 		],
 		{
-			COUNTERSIGN_TEST_TEMPLATE: TEMPLATE
+			COUNTERSIGN_TEST_TEMPLATE: TEMPLATE,
+			...fakeEnv
 		}
 	);
 	const counts = vitestCounts(report);
@@ -141,7 +151,8 @@ if (wants('e2e')) {
 		PLAYWRIGHT_SKIP_BROWSER_DOWNLOAD: '1',
 		E2E_DATABASE_URL: localUrl('app', E2E_DATABASE),
 		E2E_OWNER_DATABASE_URL: localUrl('owner', E2E_DATABASE),
-		E2E_AUTH_SECRET: localSecrets().authSecret
+		E2E_AUTH_SECRET: localSecrets().authSecret,
+		...fakeEnv
 	});
 	const stats = existsSync(report) ? JSON.parse(readFileSync(report, 'utf8')).stats : {};
 	const passed = stats.expected ?? 0;
@@ -150,6 +161,7 @@ if (wants('e2e')) {
 	outcomes.push({ part: 'e2e', passed, failed, ok: ok && failed === 0 });
 }
 
+fakes.stop();
 if (startedCluster) cluster.stopCluster();
 
 const passed = outcomes.reduce((n, o) => n + o.passed, 0);

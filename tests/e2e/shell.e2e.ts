@@ -140,7 +140,7 @@ test('API routes answer JSON, never HTML', async ({ playwright }) => {
 	const request = await playwright.request.newContext({ baseURL: test.info().project.use.baseURL });
 	const health = await request.get('/api/v1/health');
 	expect(health.status()).toBe(200);
-	expect(await health.json()).toEqual({ status: 'ok', db: 'ok' });
+	expect(await health.json()).toEqual({ status: 'ok', db: 'ok', storage: 'ok', mail: 'ok' });
 
 	const missing = await request.get('/api/v1/no-such-route', { headers: { accept: 'text/html' } });
 	expect(missing.status()).toBe(404);

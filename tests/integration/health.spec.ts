@@ -1,6 +1,10 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { createDatabase } from '../../src/lib/server/db/index';
+import { S3Client } from '@aws-sdk/client-s3';
+import nodemailer from 'nodemailer';
 import { checkHealth } from '../../src/lib/server/health';
+import { checkMail } from '../../src/lib/server/mail';
+import { checkStorage } from '../../src/lib/server/storage';
 import { freshDatabase, type TestDatabase } from './helpers/database';
 
 let t: TestDatabase;
@@ -13,7 +17,13 @@ describe('health', () => {
 	it('is ok when the database answers (as the application role)', async () => {
 		const database = createDatabase(t.appUrl, { max: 1 });
 		try {
-			expect(await checkHealth(database)).toEqual({ status: 'ok', db: 'ok' });
+			// The S3 and SMTP fakes of this test run answer too (7/10).
+			expect(await checkHealth(database)).toEqual({
+				status: 'ok',
+				db: 'ok',
+				storage: 'ok',
+				mail: 'ok'
+			});
 		} finally {
 			await database.client.end();
 		}
@@ -31,6 +41,28 @@ describe('health', () => {
 		} finally {
 			await database.client.end({ timeout: 1 });
 		}
+	});
+
+	it('says when the object store or the mail server does not answer, without settings', async () => {
+		const client = new S3Client({
+			endpoint: 'http://127.0.0.1:9',
+			region: 'us-east-1',
+			forcePathStyle: true,
+			credentials: { accessKeyId: 'S3RVER', secretAccessKey: 'S3RVER' },
+			maxAttempts: 1
+		});
+		expect(await checkStorage({ client, bucket: 'countersign' })).toMatch(/does not answer/);
+		const missing = new S3Client({
+			endpoint: process.env.S3_ENDPOINT,
+			region: 'us-east-1',
+			forcePathStyle: true,
+			credentials: { accessKeyId: 'S3RVER', secretAccessKey: 'S3RVER' }
+		});
+		expect(await checkStorage({ client: missing, bucket: 'no-such-bucket-here' })).toBe(
+			'the bucket does not exist'
+		);
+		const mail = await checkMail(nodemailer.createTransport('smtp://127.0.0.1:9'));
+		expect(mail).toMatch(/^E[A-Z]+: the mail server does not answer$/);
 	});
 
 	it('says so when the password is wrong', async () => {

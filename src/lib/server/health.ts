@@ -1,7 +1,9 @@
 import { sql } from 'drizzle-orm';
 import { db, type Database } from './db/index';
+import { checkMail } from './mail';
+import { checkStorage } from './storage';
 
-export type Health = { status: 'ok' | 'down'; db: string };
+export type Health = { status: 'ok' | 'down'; db: string; storage: string; mail: string };
 
 /** Asks the database for one row, within a time limit. "ok", or what is wrong in a few words. */
 export async function checkDatabase(database: Database = db(), timeoutMs = 3000): Promise<string> {
@@ -29,7 +31,16 @@ function describe(e: unknown) {
 	return error.code ? `${error.code}: ${text}` : text;
 }
 
+/** Every part the app needs: the database, the object store (evidence, PDFs) and the mail server. */
 export async function checkHealth(database?: Database): Promise<Health> {
-	const answer = await checkDatabase(database);
-	return { status: answer === 'ok' ? 'ok' : 'down', db: answer };
+	const [answer, storage, mail] = await Promise.all([
+		checkDatabase(database),
+		checkStorage().catch((e: unknown) => describeSetup(e)),
+		checkMail().catch((e: unknown) => describeSetup(e))
+	]);
+	const ok = answer === 'ok' && storage === 'ok' && mail === 'ok';
+	return { status: ok ? 'ok' : 'down', db: answer, storage, mail };
 }
+
+/** A setting that is missing says which (never a value). */
+const describeSetup = (e: unknown) => (e instanceof Error ? e.message : 'not configured');
