@@ -33,6 +33,14 @@ CREATE TRIGGER tightening_passes_no_truncate BEFORE TRUNCATE ON tightening_passe
 CREATE FUNCTION countersign_tightening_in_order() RETURNS trigger
 LANGUAGE plpgsql AS $$
 BEGIN
+	IF EXISTS (
+		SELECT 1 FROM tightening_passes p
+		WHERE p.work_order_id = NEW.work_order_id AND p.step_key = NEW.step_key
+			AND p.field_key = NEW.field_key AND p.round > NEW.round
+	) THEN
+		RAISE EXCEPTION 'tightening round % was started again: passes go to the newest round', NEW.round
+			USING ERRCODE = 'check_violation';
+	END IF;
 	IF NEW.pass = 0 THEN
 		IF NEW.round < 2 OR NOT EXISTS (
 			SELECT 1 FROM tightening_passes p

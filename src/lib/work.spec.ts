@@ -7,6 +7,7 @@ import {
 } from './schemas/procedure';
 import {
 	currentEntries,
+	sameValue,
 	entryUnits,
 	inFieldUnit,
 	parseEntry,
@@ -244,6 +245,35 @@ describe('withinLimits: inclusive limits; outside is a deviation (DI3)', () => {
 		// 54 lbf·in = 6.101 N·m, shown 6.1: over the maximum.
 		expect(withinLimits(f, { number: 54, unit: 'lbf·in' })).toBe(false);
 		expect(valueText(f, { number: 54, unit: 'lbf·in' })).toBe('6.1 N·m (entered as 54 lbf·in)');
+	});
+
+	it('sameValue: an entry saved before 6/10 (no unit) equals the same number in the procedure’s unit; a TUR is not part of the value', () => {
+		const f = number({ unit: '°C' });
+		expect(sameValue(f, { number: 13 }, { number: 13, unit: '°C' })).toBe(true);
+		expect(sameValue(f, { number: 13 }, { number: 13, unit: 'K' })).toBe(false);
+		expect(
+			sameValue(f, instrumentValue, { ...instrumentValue, tur: [{ field: 'x', ratio: 5 }] })
+		).toBe(true);
+	});
+
+	it('a tightening is judged by its final torque against the valve’s figure, in N·m at one decimal', () => {
+		const t = (number: number, unit: string, targetTorque: number | null = 6): EntryValue => ({
+			tightening: { pattern: 'full', fasteners: 4, sequence: [1, 3, 2, 4], round: 1, passes: [] },
+			finalTorque: { number, unit },
+			targetTorque,
+			wrench: {
+				instrumentId: uuid,
+				code: 'TW-01',
+				kind: 'Torque wrench',
+				calibrationDueOn: '2027-01-01'
+			}
+		});
+		const g = field('g', 'tightening');
+		expect(withinLimits(g, t(6, 'N·m'))).toBe(true);
+		// 53.1 lbf·in = 5.9995 N·m (NIST SP 811 B.8), shown 6.0.
+		expect(withinLimits(g, t(53.1, 'lbf·in'))).toBe(true);
+		expect(withinLimits(g, t(8, 'N·m'))).toBe(false);
+		expect(withinLimits(g, t(6, 'N·m', null))).toBeNull();
 	});
 
 	it('has no result where the field has no limits', () => {

@@ -1,3 +1,4 @@
+import canonicalize from 'canonicalize';
 import { formulas } from './calc/formulas';
 import { testUncertaintyRatio } from './calc/tur';
 import { convert, quantityOf, unitsOf } from './calc/units';
@@ -91,6 +92,39 @@ export type PassRecord = {
 	by: string;
 };
 
+/** A photo as an entry and a signature name it: its evidence row and what was checked. */
+export type PhotoRef = {
+	evidenceId: string;
+	sha256: string;
+	mediaType: string;
+	width: number;
+	height: number;
+	size: number;
+};
+
+/** A photo attached to a work order, as the record shows it (voided ones stay, marked). */
+export type EvidenceRow = {
+	id: string;
+	stepKey: string | null;
+	fieldKey: string | null;
+	deviationId: string | null;
+	sha256: string;
+	size: number;
+	mediaType: string;
+	width: number;
+	height: number;
+	thumbSha256: string;
+	note: string | null;
+	recordedBy: string | null;
+	recordedByName: string;
+	recordedAt: string;
+	auditSeq: number;
+	voidId: string | null;
+	voidReason: string | null;
+	voidedByName: string | null;
+	voidedAt: string | null;
+};
+
 /** What a calculated field stored: the result, its formula and the entries it was computed from. */
 export type CalculatedValue = {
 	calculated: number;
@@ -120,6 +154,8 @@ export type TighteningValue = {
 		passes: PassRecord[];
 	};
 	finalTorque: { number: number; unit: string };
+	/** The valve's final torque (N·m, manufacturer's figure) the wrench was to be set to. */
+	targetTorque?: number | null;
 	wrench: { instrumentId: string; code: string; kind: string; calibrationDueOn: string };
 };
 
@@ -146,6 +182,8 @@ export type EntryValue =
 	  }
 	| CalculatedValue
 	| TighteningValue
+	/** A photo field: the evidence row of the photo (7/10). */
+	| { photo: PhotoRef }
 	/** Tightening as 5/10 recorded it, before the guided passes. */
 	| { completed: boolean };
 
@@ -283,8 +321,31 @@ export function withinLimits(field: ProcedureField, value: EntryValue): boolean 
 	}
 	if ('pass' in value) return value.pass;
 	if ('completed' in value) return value.completed;
-	if ('tightening' in value) return true;
+	if ('tightening' in value) {
+		// The wrench is set to the valve's final torque: judged in N·m at one decimal, as shown.
+		if (value.targetTorque == null) return null;
+		const c = convert(value.finalTorque.number, value.finalTorque.unit, 'N·m');
+		if (!c.ok) return false;
+		return Number(c.value.toFixed(1)) === Number(value.targetTorque.toFixed(1));
+	}
 	return null;
+}
+
+/**
+ * Whether a new value is the one already saved: a number without a stored unit is in the
+ * procedure's unit (entries saved before 6/10), and an instrument's TUR is derived, not entered.
+ */
+export function sameValue(field: Pick<ProcedureField, 'unit'>, a: EntryValue, b: EntryValue) {
+	const normal = (v: EntryValue): unknown => {
+		if ('number' in v) return { number: v.number, unit: v.unit ?? field.unit };
+		if ('instrumentId' in v && 'code' in v) {
+			const { tur: _tur, ...rest } = v;
+			void _tur;
+			return rest;
+		}
+		return v;
+	};
+	return canonicalize(normal(a)) === canonicalize(normal(b));
 }
 
 const fixed = (n: number, decimals: number) => n.toFixed(decimals);
@@ -307,6 +368,8 @@ export function valueText(
 			: '';
 		return `${fixed(value.calculated, field.decimals)} ${value.unit} (${value.expression}, ${inputs}${band})`;
 	}
+	if ('photo' in value)
+		return `Photo ${value.photo.width} × ${value.photo.height} px, SHA-256 ${value.photo.sha256.slice(0, 16)}…`;
 	if ('tightening' in value) {
 		const t = value.tightening;
 		return `${t.passes.length} ${t.passes.length === 1 ? 'pass' : 'passes'} on ${t.fasteners} fasteners, final torque ${value.finalTorque.number} ${value.finalTorque.unit} with ${value.wrench.code} (calibration due ${value.wrench.calibrationDueOn})`;
@@ -324,6 +387,7 @@ export function valueText(
 export function rawOf(value: EntryValue): string {
 	if ('number' in value) return String(value.number);
 	if ('calculated' in value) return String(value.calculated);
+	if ('photo' in value) return value.photo.evidenceId;
 	if ('tightening' in value) return String(value.finalTorque.number);
 	if ('text' in value) return value.text;
 	if ('pass' in value) return value.pass ? 'pass' : 'fail';

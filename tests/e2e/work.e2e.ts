@@ -221,10 +221,6 @@ test('tech1 reads every caution, starts the work (Out of service) and executes e
 	await page.getByLabel('Diaphragm thickness after tightening').fill('3.65');
 	await expect(compression.getByRole('status')).toContainText('13.1 %');
 	await expect(compression.getByRole('status')).toContainText('Within the band');
-	// Enter in a field saves the values (it does not tick a pass).
-	await page.getByLabel('Diaphragm thickness after tightening').press('Enter');
-	await expect(page.getByRole('status').filter({ hasText: /^Saved 4 values/ })).toBeVisible();
-	await expect(compression).toContainText('Saved: 13.1 %');
 	await shot(page, 'work-execute-compression-within');
 
 	// Guided tightening: the bolt circle and the passes from the valve's data (4 fasteners, 10 N·m).
@@ -245,6 +241,8 @@ test('tech1 reads every caution, starts the work (Out of service) and executes e
 		await expect(tightening.getByRole('listitem').nth(n - 1)).toContainText(`Target ${target}`);
 		await tightening.getByRole('button', { name: `Tick pass ${n} done` }).click();
 		await expect(tightening.getByRole('listitem').nth(n - 1)).toContainText('✓ Ticked');
+		// What was typed and not yet saved stays through each tick.
+		await expect(page.getByLabel('Diaphragm thickness after tightening')).toHaveValue('3.65');
 		// After a tick the next pass's button has the focus (keyboard use at the valve).
 		if (n < 5)
 			await expect(
@@ -256,7 +254,11 @@ test('tech1 reads every caution, starts the work (Out of service) and executes e
 		.getByLabel('Torque wrench used')
 		.selectOption(await optionValue(page, 'Torque wrench used', /^TW-01/));
 	await shot(page, 'work-execute-tightening');
-	await save(page);
+	// Enter in a field saves the values (it does not tick a pass): the thicknesses, the
+	// compression the server computes from them, and the tightening with its passes.
+	await tightening.getByLabel('Final torque the wrench was set to').press('Enter');
+	await expect(page.getByRole('status').filter({ hasText: /^Saved 5 values/ })).toBeVisible();
+	await expect(compression).toContainText('Saved: 13.1 %');
 	await expect(
 		page.getByText(/5 passes on 4 fasteners, final torque 10 N·m with TW-01/).first()
 	).toBeVisible();

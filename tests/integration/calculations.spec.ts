@@ -322,6 +322,52 @@ describe('guided tightening: passes in order, with the server’s time', () => {
 		expect((await view(id)).passes.filter((p) => p.round === 2).map((p) => p.pass)).toEqual([0, 1]);
 	});
 
+	it('round 2 saved: the entry is corrected for the restart’s reason; a torque off the valve’s figure needs a description', async () => {
+		for (const n of [2, 3, 4, 5]) await tick(n);
+		const direct = async (torque: string, more: Partial<work.StepSave> = {}) =>
+			work.saveStep(
+				people.tech1!,
+				id,
+				'tighten',
+				{
+					values: { tightening: torque },
+					units: { tightening: 'N·m' },
+					wrenches: { tightening: await instrumentOf('TW-01') },
+					reasons: {},
+					deviations: {},
+					performedAt: null,
+					lateReason: '',
+					seen: await stepSeen(id, 'tighten'),
+					...more
+				},
+				ip
+			);
+		// 8 N·m on a valve whose figure is 6 N·m (demo data): outside, so a description is needed.
+		const before = await rows(id);
+		const off = await refusal(direct('8'));
+		expect(off.status).toBe(422);
+		expect(off.fields?.['deviation:tightening']).toMatch(/not the valve’s figure/);
+		expect(await rows(id)).toEqual(before);
+		await direct('6');
+		const v = await view(id);
+		const entries = v.entries.filter((e) => e.fieldKey === 'tightening');
+		expect(entries).toHaveLength(2);
+		expect(entries[1]!.corrects).toBe(entries[0]!.id);
+		expect(entries[1]!.reason).toBe('Passes started again: Diaphragm refitted');
+		expect(entries[1]!.withinLimits).toBe(true);
+		expect((entries[1]!.value as { tightening: { round: number } }).tightening.round).toBe(2);
+		expect(v.steps.find((s) => s.step.key === 'tighten')!.status.missing).toEqual([]);
+	});
+
+	it('the database refuses a pass added to a round that was started again', async () => {
+		const [a] = await t.ownerSql`select id from accounts where username = 'tech1'`;
+		await expect(
+			t.ownerSql`insert into tightening_passes (id, work_order_id, step_key, field_key, round, pass, name, unit,
+				recorded_by, recorded_by_name, recorded_at, audit_seq)
+				values (gen_random_uuid(), ${id}, 'tighten', 'tightening', 1, 6, 'x', 'N·m', ${a!.id}, 'x', now(), 1)`
+		).rejects.toThrow(/started again/);
+	});
+
 	it('a second technician cannot tick on a job they are not assigned to (403)', async () => {
 		const e = await refusal(tick(2, 'tech3'));
 		expect(e.status).toBe(403);

@@ -1,5 +1,11 @@
 import { describe, expect, it } from 'vitest';
-import { blankField, blankStep, stepSchema, type ProcedureField } from '../schemas/procedure';
+import {
+	blankField,
+	blankStep,
+	cleanField,
+	stepSchema,
+	type ProcedureField
+} from '../schemas/procedure';
 import { passProgress, turOf, withinLimits, type CalculatedValue, type PassRow } from '../work';
 import { evaluate, formulas } from './formulas';
 import { checkPasses, passesFor } from './tightening';
@@ -228,10 +234,15 @@ describe('procedure schema: a calculated field names number fields of its step i
 			expect(r.error?.issues.map((i) => i.message).join(' ')).toMatch(text);
 		}
 	});
-	it('a compression takes its band from the valve: limits on the field are refused', () => {
+	it('a compression takes its band from the valve: limits left from a number field are dropped, not a trap', () => {
 		const f = { ...calc(['a', 'b']), limitType: 'range' as const, min: 10, max: 15 };
 		const r = stepSchema.safeParse(step([num('a', 'mm'), num('b', 'mm'), f]));
-		expect(r.success).toBe(false);
+		expect(r.success).toBe(true);
+		expect(cleanField(r.data!.fields[2]!)).toMatchObject({
+			limitType: 'none',
+			min: null,
+			max: null
+		});
 	});
 });
 

@@ -146,15 +146,7 @@ export const fieldSchema = z
 		if (f.kind === 'instrument' && !f.instrumentKind)
 			need('instrumentKind', 'Say which kind of instrument (for example flow meter).');
 		if (f.kind === 'calculated' && !f.calculation) need('calculation', 'Choose the calculation.');
-		if (
-			f.kind === 'calculated' &&
-			f.calculation === 'diaphragm_compression' &&
-			f.limitType !== 'none'
-		)
-			need(
-				'limitType',
-				'The compression is judged against the band in the valve’s data: set no limits here.'
-			);
+		// A compression takes the valve's band: limits left from another kind are dropped by cleanField.
 	});
 export type ProcedureField = z.infer<typeof fieldSchema>;
 

@@ -1,4 +1,3 @@
-import canonicalize from 'canonicalize';
 import { and, asc, desc, eq, inArray, like, or, sql } from 'drizzle-orm';
 import { randomUUID } from 'node:crypto';
 import { equipmentStatusLabels, type EquipmentStatus } from '$lib/equipment';
@@ -20,6 +19,7 @@ import {
 	enterable,
 	parseNumber,
 	passProgress,
+	sameValue,
 	turOf,
 	LATE_ENTRY_MINUTES,
 	parseEntry,
@@ -35,7 +35,9 @@ import {
 	type DeviationDecision,
 	type EntryRow,
 	type EntryValue,
+	type EvidenceRow,
 	type PassRow,
+	type StepStatus,
 	type Priority,
 	type SignoffRow,
 	type TransitionKind,
@@ -63,6 +65,8 @@ import {
 	procedures,
 	procedureVersions,
 	signatures,
+	evidence,
+	evidenceVoids,
 	stepEntries,
 	tighteningPasses,
 	stepSignoffs,
@@ -100,7 +104,7 @@ import {
  * (3/10) and are recorded inside it. The rules that decide state live in src/lib/work.ts.
  */
 
-async function lockWorkOrder(tx: Transaction, id: string) {
+export async function lockWorkOrder(tx: Transaction, id: string) {
 	await tx.execute(sql`select pg_advisory_xact_lock(hashtextextended(${'work_order:' + id}, 0))`);
 }
 
@@ -115,7 +119,7 @@ async function siteOrFail() {
 // ── Reading ──────────────────────────────────────────────────────────────────
 
 /** Every row of one work order, read in the given transaction (under its lock when writing). */
-async function loadState(tx: Transaction, id: string) {
+export async function loadState(tx: Transaction, id: string) {
 	const [wo] = await tx
 		.select({
 			id: workOrders.id,
@@ -177,6 +181,37 @@ async function loadState(tx: Transaction, id: string) {
 		.from(tighteningPasses)
 		.where(eq(tighteningPasses.workOrderId, id))
 		.orderBy(asc(tighteningPasses.auditSeq));
+	const evidenceRows = await tx
+		.select({
+			id: evidence.id,
+			stepKey: evidence.stepKey,
+			fieldKey: evidence.fieldKey,
+			deviationId: evidence.deviationId,
+			sha256: evidence.sha256,
+			size: evidence.size,
+			mediaType: evidence.mediaType,
+			width: evidence.width,
+			height: evidence.height,
+			thumbSha256: evidence.thumbSha256,
+			note: evidence.note,
+			recordedBy: evidence.recordedBy,
+			recordedByName: evidence.recordedByName,
+			recordedAt: evidence.recordedAt,
+			auditSeq: evidence.auditSeq,
+			voidId: evidenceVoids.id,
+			voidReason: evidenceVoids.reason,
+			voidedByName: evidenceVoids.recordedByName,
+			voidedAt: evidenceVoids.recordedAt
+		})
+		.from(evidence)
+		.leftJoin(evidenceVoids, eq(evidenceVoids.evidenceId, evidence.id))
+		.where(eq(evidence.workOrderId, id))
+		.orderBy(asc(evidence.auditSeq));
+	const photos: EvidenceRow[] = evidenceRows.map((e) => ({
+		...e,
+		recordedAt: iso(e.recordedAt),
+		voidedAt: e.voidedAt ? iso(e.voidedAt) : null
+	}));
 	// The equipment's data as registered now: fasteners, torque and compression band (manufacturer's figures).
 	const [equipmentData] = await tx
 		.select({ attributes: equipmentVersions.attributes })
@@ -260,7 +295,7 @@ async function loadState(tx: Transaction, id: string) {
 	const steps = content.steps.map((step, i) => ({
 		step,
 		position: i + 1,
-		status: stepStatus(step, entries, signoffs, passes)
+		status: withEvidence(stepStatus(step, entries, signoffs, passes), step.key, photos)
 	}));
 	const lastExecuted = transitions.findLast((t) => t.kind === 'executed');
 	const trailReview =
@@ -279,6 +314,7 @@ async function loadState(tx: Transaction, id: string) {
 		entries,
 		signoffs,
 		passes,
+		photos,
 		attributes: (equipmentData?.attributes ?? {}) as Record<string, unknown>,
 		deviations: deviationRows,
 		steps,
@@ -291,11 +327,22 @@ async function loadState(tx: Transaction, id: string) {
 			entries.length +
 			signoffs.length +
 			passes.length +
+			photos.length +
+			photos.filter((p) => p.voidId).length +
 			deviationRows.length +
 			deviationRows.filter((d) => d.dispositionId).length
 	};
 }
 export type WorkOrderState = NonNullable<Awaited<ReturnType<typeof loadState>>>;
+
+/** Photos attached to a step (and their voids) are rows on it: a save or signature names them too. */
+function withEvidence(status: StepStatus, stepKey: string, photos: readonly EvidenceRow[]) {
+	const mine = photos.filter((p) => p.stepKey === stepKey && !p.fieldKey);
+	return {
+		...status,
+		revision: status.revision + mine.length + mine.filter((p) => p.voidId).length
+	};
+}
 
 function workRecord(s: WorkOrderState, forRelease = false): SignedRecord {
 	return workOrderSignedContent(
@@ -801,7 +848,7 @@ export async function changePlan(
 // ── Execution ────────────────────────────────────────────────────────────────
 
 /** Under the work order's lock: still assigned (a plan change may have removed the person meanwhile). */
-function stillAssigned(user: User, s: WorkOrderState) {
+export function stillAssigned(user: User, s: WorkOrderState) {
 	if (!s.plan.assignees.includes(user.id))
 		throw new RecordError(
 			'You are no longer assigned to this work order: the Planner changed the plan.',
@@ -810,7 +857,7 @@ function stillAssigned(user: User, s: WorkOrderState) {
 		);
 }
 
-async function mustBeAssignedAndQualified(
+export async function mustBeAssignedAndQualified(
 	user: User,
 	s: WorkOrderState,
 	what: string,
@@ -934,7 +981,7 @@ export type StepSave = {
 	seen: number;
 };
 
-const staleStep = () =>
+export const staleStep = () =>
 	new RecordError(
 		'This step changed since you opened it (someone saved or signed it). What you typed is still in the form: check the step as it is now, then save again.',
 		undefined,
@@ -1080,6 +1127,7 @@ async function resolveTightening(
 				}))
 			},
 			finalTorque: { number: torque.number, unit },
+			targetTorque: plan.value.at(-1)!.torque,
 			wrench: {
 				instrumentId: w.instrumentId,
 				code: w.code,
@@ -1200,16 +1248,27 @@ export async function saveStep(
 			else if (text.length > max)
 				errors[`${kind}:${field.key}`] = `Keep it under ${max} characters.`;
 		}
-		if (previous && canonicalize(previous.value) === canonicalize(resolved.value)) continue;
+		if (previous && sameValue(field, previous.value, resolved.value)) continue;
 		const within = withinLimits(field, resolved.value);
-		if (previous && !(input.reasons[field.key] ?? '').trim()) {
+		// A tightening redone after its passes were started again is corrected for the restart's reason.
+		const restart =
+			field.kind === 'tightening' && previous
+				? passProgress(s0.passes, stepKey, field.key).restarts.at(-1)
+				: undefined;
+		const autoReason =
+			restart && 'tightening' in previous!.value && previous!.value.tightening.round < restart.round
+				? `Passes started again: ${restart.reason}`
+				: null;
+		if (previous && !autoReason && !(input.reasons[field.key] ?? '').trim()) {
 			errors[`reason:${field.key}`] =
 				'This changes a saved value: give the reason for the correction.';
 			reasonMissing = true;
 		}
 		if (within === false && !(input.deviations[field.key] ?? '').trim()) {
 			errors[`deviation:${field.key}`] =
-				'This value is outside its limits: describe what you found. A deviation is raised for Quality.';
+				field.kind === 'tightening'
+					? 'The final torque is not the valve’s figure: describe what you found. A deviation is raised for Quality.'
+					: 'This value is outside its limits: describe what you found. A deviation is raised for Quality.';
 			reasonMissing = true;
 		}
 		changes.push({
@@ -1218,12 +1277,19 @@ export async function saveStep(
 			within,
 			corrects: previous,
 			entryId: randomUUID(),
-			reason: null
+			reason: (input.reasons[field.key] ?? '').trim() ? null : autoReason
 		});
 	}
 	// Calculated fields: computed here from the values in force after this save, never taken from the browser.
 	for (const field of found.step.fields) {
-		if (field.kind !== 'calculated' || !field.calculation || Object.keys(errors).length) continue;
+		// A calculated field of a version approved before 6/10 names no inputs: it is shown, not computed.
+		if (
+			field.kind !== 'calculated' ||
+			!field.calculation ||
+			!field.inputs.length ||
+			Object.keys(errors).length
+		)
+			continue;
 		const formula = formulas[field.calculation];
 		const sources = field.inputs.map((key) => {
 			const change = changes.find((c) => c.field.key === key);
@@ -1261,7 +1327,7 @@ export async function saveStep(
 			band
 		};
 		const previous = current.get(field.key) ?? null;
-		if (previous && canonicalize(previous.value) === canonicalize(value)) continue;
+		if (previous && sameValue(field, previous.value, value)) continue;
 		const within = withinLimits(field, value);
 		if (within === false && !(input.deviations[field.key] ?? '').trim()) {
 			errors[`deviation:${field.key}`] = formula.bandFromEquipment
@@ -1461,7 +1527,8 @@ async function passAction(
 			);
 		const step = s.steps.find((x) => x.step.key === stepKey)!;
 		if (step.status.revision !== seen) throw staleStep();
-		if (step.status.state === 'performed' || step.status.state === 'verified')
+		const reopened = s.transitions.at(-1)?.kind === 'returned';
+		if ((step.status.state === 'performed' || step.status.state === 'verified') && !reopened)
 			throw new RecordError(
 				'This step is signed: the tightening can no longer change on it.',
 				undefined,

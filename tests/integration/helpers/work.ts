@@ -77,7 +77,7 @@ export async function workDatabase(techqaTrainedOn: string[] = ['MP-DV-01']) {
 			'thickness-before': '4.20',
 			'thickness-after': '3.65',
 			// Guided tightening (6/10): `save` ticks the passes first; the wrench goes with the final torque.
-			tightening: '6',
+			tightening: 'valve', // the valve's final torque from its data (`save` puts it in)
 			wrench: await instrumentOf('TW-01')
 		},
 		'limiter-after': { 'limiter-as-left': '12.5', 'limiter-matches': 'pass' },
@@ -118,6 +118,7 @@ export function stepActions(people: Record<string, User>, ip: string) {
 			for (let n = passProgress(wo.passes, key, f.key).next; n <= plan.value.length; n++)
 				await work.tickPass(people[who]!, id, key, f.key, n, await stepSeen(id, key), ip);
 			if (wrench) wrenches[f.key] = wrench;
+			if (entered[f.key] === 'valve') entered[f.key] = String(wo.attributes.fastenerTorqueNm);
 		}
 		return work.saveStep(
 			people[who]!,

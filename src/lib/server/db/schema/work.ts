@@ -194,6 +194,51 @@ export const tighteningPasses = pgTable(
 	]
 );
 
+/**
+ * Photo evidence (7/10): the original bytes are stored unchanged in the object store under their
+ * SHA-256, a thumbnail beside them. The row says what was checked (type by magic bytes, size,
+ * dimensions) and where it belongs: a photo field of a step (its entry names this row), the step
+ * itself, or a deviation. Never deleted: a photo attached by mistake is voided with a reason.
+ */
+export const evidence = pgTable(
+	'evidence',
+	{
+		id: uuid('id').primaryKey(),
+		workOrderId: uuid('work_order_id')
+			.notNull()
+			.references(() => workOrders.id),
+		stepKey: text('step_key'),
+		fieldKey: text('field_key'),
+		deviationId: uuid('deviation_id').references(() => deviations.id),
+		sha256: text('sha256').notNull(),
+		size: integer('size').notNull(),
+		mediaType: text('media_type').notNull(),
+		width: integer('width').notNull(),
+		height: integer('height').notNull(),
+		thumbSha256: text('thumb_sha256').notNull(),
+		note: text('note'),
+		...recorded()
+	},
+	(t) => [
+		index('evidence_work_order').on(t.workOrderId, t.auditSeq),
+		check('evidence_sha256', sql`${t.sha256} ~ '^[0-9a-f]{64}$' and ${t.thumbSha256} ~ '^[0-9a-f]{64}$'`),
+		check('evidence_size', sql`${t.size} > 0 and ${t.width} > 0 and ${t.height} > 0`),
+		check('evidence_type', sql`${t.mediaType} in ('image/jpeg', 'image/png', 'image/webp')`),
+		check('evidence_place', sql`${t.stepKey} is not null or ${t.deviationId} is not null`)
+	]
+);
+
+/** A photo voided (attached by mistake), with the reason: it stays visible, marked voided. */
+export const evidenceVoids = pgTable('evidence_voids', {
+	id: uuid('id').primaryKey(),
+	evidenceId: uuid('evidence_id')
+		.notNull()
+		.unique()
+		.references(() => evidence.id),
+	reason: text('reason').notNull(),
+	...recorded()
+});
+
 export const deviations = pgTable(
 	'deviations',
 	{

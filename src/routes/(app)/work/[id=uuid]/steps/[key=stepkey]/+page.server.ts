@@ -262,7 +262,7 @@ export const actions: Actions = {
 			if (
 				typeof v === 'string' &&
 				v.length <= 5000 &&
-				name.includes(':') &&
+				(name.includes(':') || name === 'performedAt' || name === 'lateReason') &&
 				!name.startsWith('restartReason:')
 			)
 				typed[name] = v;
