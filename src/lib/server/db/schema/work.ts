@@ -221,7 +221,10 @@ export const evidence = pgTable(
 	},
 	(t) => [
 		index('evidence_work_order').on(t.workOrderId, t.auditSeq),
-		check('evidence_sha256', sql`${t.sha256} ~ '^[0-9a-f]{64}$' and ${t.thumbSha256} ~ '^[0-9a-f]{64}$'`),
+		check(
+			'evidence_sha256',
+			sql`${t.sha256} ~ '^[0-9a-f]{64}$' and ${t.thumbSha256} ~ '^[0-9a-f]{64}$'`
+		),
 		check('evidence_size', sql`${t.size} > 0 and ${t.width} > 0 and ${t.height} > 0`),
 		check('evidence_type', sql`${t.mediaType} in ('image/jpeg', 'image/png', 'image/webp')`),
 		check('evidence_place', sql`${t.stepKey} is not null or ${t.deviationId} is not null`)
