@@ -71,6 +71,7 @@ export default defineConfig({
 			// The lockout journey signs in wrongly five times in a row; the progressive delay is
 			// tested against the database in tests/integration/sign-in.spec.ts.
 			AUTH_DELAY_FREE_PER_USERNAME: '5',
+			BODY_SIZE_LIMIT: '16M',
 			AUTH_DELAY_FREE_PER_ADDRESS: '1000'
 		}
 	}

@@ -15,6 +15,7 @@ export const init: ServerInit = async () => {
 	});
 };
 
+const MAX_BODY = 1024 * 1024;
 const isApi = (path: string) => path === '/api' || path.startsWith('/api/');
 const isJson = (response: Response) =>
 	response.status < 400 ||
@@ -31,6 +32,13 @@ function apiMessage(status: number, method: string) {
 const core: Handle = async ({ event, resolve }) => {
 	event.locals.requestId = crypto.randomUUID();
 	event.locals.user = null;
+	// BODY_SIZE_LIMIT is raised for photo uploads; every other route keeps to 1 MB.
+	const declared = Number(event.request.headers.get('content-length') ?? 0);
+	if (declared > MAX_BODY && event.route.id !== '/(app)/work/[id=uuid]/evidence')
+		return json(
+			{ message: 'The request is too large.' },
+			{ status: 413, headers: { 'x-request-id': event.locals.requestId } }
+		);
 	const response = await resolve(event);
 
 	// API routes answer JSON, never an HTML page or bare text, whatever the client asked for.

@@ -63,7 +63,9 @@ export function appEnvironment({ databaseUrl, port = Number(process.env.PORT ?? 
 		HOST: host,
 		PORT: String(port),
 		ORIGIN: process.env.ORIGIN ?? `http://${host}:${port}`,
-		AUTH_SECRET: process.env.AUTH_SECRET ?? localSecrets().authSecret
+		AUTH_SECRET: process.env.AUTH_SECRET ?? localSecrets().authSecret,
+		// Photo uploads need up to 15 MB; hooks.server.ts keeps every other route at 1 MB.
+		BODY_SIZE_LIMIT: process.env.BODY_SIZE_LIMIT ?? '16M'
 	};
 }
 

@@ -1,3 +1,5 @@
+import { createHash } from 'node:crypto';
+import sharp from 'sharp';
 import { expect, test, type Locator, type Page } from '@playwright/test';
 import { DEMO_PASSWORD, expectNoHorizontalScroll, shot, signedInPage } from './helpers';
 
@@ -148,6 +150,42 @@ test('tech1 reads every caution, starts the work (Out of service) and executes e
 	await openStep(page, 2);
 	await page.getByLabel('Leak at the bonnet').check();
 	await save(page);
+	// Photo evidence (7/10): an SVG is refused by its content; a JPEG is attached with its hash.
+	const asFoundPhoto = page.locator('form', {
+		has: page.getByLabel(/^Photo of the valve as found/)
+	});
+	await asFoundPhoto.getByLabel(/^Photo of the valve as found/).setInputFiles({
+		name: 'valve.jpg',
+		mimeType: 'image/jpeg',
+		buffer: Buffer.from('<svg xmlns="http://www.w3.org/2000/svg"/>')
+	});
+	await asFoundPhoto.getByRole('button', { name: 'Attach the photo' }).click();
+	await expect(asFoundPhoto.getByRole('alert')).toContainText('not a JPEG, PNG or WebP photo');
+	const photo = await sharp({
+		create: { width: 1200, height: 900, channels: 3, background: { r: 96, g: 110, b: 120 } }
+	})
+		.composite([
+			{
+				input: Buffer.from(
+					'<svg width="1200" height="900"><circle cx="600" cy="450" r="300" fill="#c9ccd1"/><rect x="540" y="80" width="120" height="220" fill="#8a9099"/></svg>'
+				)
+			}
+		])
+		.jpeg({ quality: 85 })
+		.toBuffer();
+	await asFoundPhoto.getByLabel(/^Photo of the valve as found/).setInputFiles({
+		name: 'valve.jpg',
+		mimeType: 'image/jpeg',
+		buffer: photo
+	});
+	await asFoundPhoto.getByRole('button', { name: 'Attach the photo' }).click();
+	await expect(page.getByRole('status').filter({ hasText: /^Photo attached/ })).toBeVisible();
+	const photos = page.getByRole('region', { name: 'Photos' });
+	await expect(
+		photos.getByRole('img', { name: 'Photo of the valve as found: photo 1200 × 900 px' })
+	).toBeVisible();
+	await expect(photos).toContainText(createHash('sha256').update(photo).digest('hex'));
+	await shot(page, 'work-execute-photo');
 	await performStep(page, 2);
 
 	await openStep(page, 3);

@@ -1,3 +1,4 @@
+import sharp from 'sharp';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { mayAccess, routeAccess, type Access } from '../../src/lib/access';
 import type { Role } from '../../src/lib/roles';
@@ -8,6 +9,7 @@ import {
 	seedDemoPlant
 } from '../../src/lib/server/db/seed';
 import { seedDemoMasterData, seedDemoWork } from '../../src/lib/server/db/demo/index';
+import * as work from '../../src/lib/server/work-orders';
 import { appDatabase } from './helpers/app-database';
 import { serveBuiltApp, signInOverHttp } from './helpers/served-app';
 
@@ -80,6 +82,10 @@ const paths = (): Record<string, string> => ({
 	'/(app)/work/new': '/work/new',
 	'/(app)/work/[id=uuid]': `/work/${ids.workOrder}`,
 	'/(app)/work/[id=uuid]/steps/[key=stepkey]': `/work/${ids.workOrder}/steps/isolate`,
+	// Upload is POST only (a GET is 405 to those allowed); an unknown photo is 404.
+	'/(app)/work/[id=uuid]/evidence': `/work/${ids.workOrder}/evidence`,
+	'/(app)/work/[id=uuid]/record.pdf': `/work/${ids.workOrder}/record.pdf`,
+	'/(app)/work/[id=uuid]/evidence/[evidence=uuid]': `/work/${ids.workOrder}/evidence/00000000-0000-4000-8000-000000000000`,
 	'/api/v1/queues': '/api/v1/queues',
 	'/(app)/people': '/people',
 	'/(app)/people/new': '/people/new',
@@ -274,6 +280,73 @@ describe('role × route matrix', () => {
 			expect((await send(cookies.get('tech1')!, body)).status, JSON.stringify(body)).toBe(400);
 		expect((await send(cookies.get('tech1')!, { tick: 'nothing:1', seen: '0' })).status).toBe(404);
 		expect(await count()).toBe(before);
+	});
+
+	it('photo upload over HTTP: roles, origin and content checked; a stored photo is served with its hash (7/10)', async () => {
+		const [wo] =
+			await t.ownerSql`select w.id from work_orders w join equipment e on e.id = w.equipment_id
+			where e.tag = 'XV-3103'`;
+		const woId = wo!.id as string;
+		const seen = async () =>
+			String(
+				(await work.getWorkOrder(woId))!.steps.find((x) => x.step.key === 'limiter-before')!.status
+					.revision
+			);
+		const count = async () =>
+			(await t.ownerSql`select count(*)::int as n from evidence where work_order_id = ${woId}`)[0]!
+				.n as number;
+		const before = await count();
+		const upload = async (cookie: string, body: Uint8Array, query: string, origin = app.origin) =>
+			fetch(`${app.origin}/work/${woId}/evidence?${query}`, {
+				method: 'POST',
+				redirect: 'manual',
+				headers: { origin, cookie, 'content-type': 'application/octet-stream' },
+				body: body as BodyInit
+			});
+		const photo = await sharp({
+			create: { width: 64, height: 48, channels: 3, background: { r: 200, g: 200, b: 190 } }
+		})
+			.jpeg()
+			.toBuffer();
+		const q = async (more = '') => `step=limiter-before&seen=${await seen()}${more}`;
+		expect((await upload(cookies.get('inspector')!, photo, await q())).status).toBe(403);
+		expect(
+			(await upload(cookies.get('tech1')!, photo, await q(), 'http://evil.example')).status
+		).toBe(403);
+		const bad = await upload(cookies.get('tech1')!, photo, 'step=../../etc&seen=0');
+		expect(bad.status).toBe(400);
+		expect(((await bad.json()) as { message: string }).message).toMatch(/Reload the page/);
+		const svg = await upload(cookies.get('tech1')!, Buffer.from('<svg/>'), await q());
+		expect(svg.status).toBe(400);
+		expect(((await svg.json()) as { message: string }).message).toMatch(/not a JPEG, PNG or WebP/);
+		expect(await count()).toBe(before);
+		const ok = await upload(cookies.get('tech1')!, photo, await q());
+		expect(ok.status).toBe(201);
+		const saved = (await ok.json()) as { evidenceId: string; sha256: string };
+		const got = await fetch(`${app.origin}/work/${woId}/evidence/${saved.evidenceId}`, {
+			headers: { cookie: cookies.get('inspector')! }
+		});
+		expect(got.status).toBe(200);
+		expect(got.headers.get('content-type')).toBe('image/jpeg');
+		expect(got.headers.get('x-content-sha256')).toBe(saved.sha256);
+		expect(Buffer.from(await got.arrayBuffer()).equals(photo)).toBe(true);
+		const anonymous = await fetch(`${app.origin}/work/${woId}/evidence/${saved.evidenceId}`, {
+			redirect: 'manual'
+		});
+		expect(anonymous.status).toBeGreaterThanOrEqual(300);
+		expect(anonymous.status).toBeLessThan(500);
+		// A large body elsewhere is refused before it is read.
+		const big = await fetch(`${app.origin}/work/${woId}?/plan`, {
+			method: 'POST',
+			redirect: 'manual',
+			headers: {
+				origin: app.origin,
+				cookie: cookies.get('planner')!,
+				'content-type': 'application/x-www-form-urlencoded'
+			},
+			body: 'x='.padEnd(2 * 1024 * 1024, 'x')
+		});
+		expect(big.status).toBe(413);
 	});
 
 	it('GET /api/v1/queues answers each person their own queues as JSON', async () => {

@@ -17,7 +17,7 @@ export class RecordError extends Error {
 	constructor(
 		message: string,
 		readonly field?: string,
-		readonly status: 400 | 403 | 404 | 409 | 422 = 400
+		readonly status: 400 | 403 | 404 | 409 | 413 | 422 = 400
 	) {
 		super(message);
 	}

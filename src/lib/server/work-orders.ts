@@ -364,6 +364,14 @@ function workRecord(s: WorkOrderState, forRelease = false): SignedRecord {
 	);
 }
 
+/**
+ * The hash of a work order's record as it stands (the release content once released, else the
+ * execution content): what the PDF's verification block prints and the verification page checks.
+ */
+export function recordContentHash(s: WorkOrderState) {
+	return contentHash(workRecord(s, s.status === 'released'));
+}
+
 function stepRecord(s: WorkOrderState, stepKey: string): SignedRecord {
 	const found = s.steps.find((x) => x.step.key === stepKey)!;
 	return stepSignedContent(s.identity, found.step, found.position, s.entries);

@@ -11,6 +11,7 @@ import { lotsOfSite } from '$lib/server/parts';
 import { currentSite } from '$lib/server/plant';
 import { isQualified } from '$lib/server/qualifications';
 import { RecordError } from '$lib/server/records';
+import { voidPhoto } from '$lib/server/evidence';
 import * as work from '$lib/server/work-orders';
 import { fromLocalInput, localInputValue } from '$lib/time';
 import { passesFor } from '$lib/calc/tightening';
@@ -135,6 +136,8 @@ export const load: PageServerLoad = async (event) => {
 		) as Record<string, string>,
 		tightening,
 		band: bandOf(attributes),
+		photos: found.photos.filter((p) => p.stepKey === current.step.key),
+		photoError: event.url.searchParams.get('photoError')?.slice(0, 300) ?? null,
 		instruments,
 		lots: hasLots ? await lotsOfSite(site.id) : [],
 		materialCode: String(found.equipment.attributes.diaphragmMaterialCode ?? ''),
@@ -303,6 +306,40 @@ export const actions: Actions = {
 				return fail(e.status, { typed, passError: Object.values(e.fields)[0] ?? e.message });
 			if (e instanceof RecordError)
 				return fail(e.status, { typed, passError: e.message, stale: e.status === 409 });
+			throw e;
+		}
+	},
+	/** Voids a photo attached by mistake, with the reason (it stays in the record, marked voided). */
+	voidPhoto: async (event) => {
+		const user = await requireRole(event, 'technician');
+		let body: FormData;
+		try {
+			body = await event.request.formData();
+		} catch {
+			return fail(400, { voidError: 'The form could not be read: reload the page.' });
+		}
+		const evidenceId = String(body.get('evidence') ?? '');
+		const seenText = String(body.get('seen') ?? '');
+		if (!/^[0-9a-f-]{36}$/i.test(evidenceId) || !/^\d{1,9}$/.test(seenText))
+			return fail(400, { voidError: 'Reload the page and void the photo again.' });
+		try {
+			await voidPhoto(
+				user,
+				event.params.id,
+				evidenceId,
+				String(body.get('reason') ?? '').slice(0, 2000),
+				Number(seenText),
+				event.getClientAddress()
+			);
+			return { voidText: 'The photo is voided; it stays in the record, marked voided.' };
+		} catch (e) {
+			if (e instanceof work.EntryErrors)
+				return fail(e.status, {
+					voidError: Object.values(e.fields)[0] ?? e.message,
+					voidFor: evidenceId
+				});
+			if (e instanceof RecordError)
+				return fail(e.status, { voidError: e.message, voidFor: evidenceId });
 			throw e;
 		}
 	},
