@@ -2,7 +2,7 @@ import { createHash, randomUUID } from 'node:crypto';
 import sharp from 'sharp';
 import { siteToday } from '$lib/fitness';
 import { isStorableText, unstorableTextMessage } from '$lib/schemas/text';
-import { currentEntries, workStatusLabels, type EntryValue } from '$lib/work';
+import { currentEntries, type EntryValue } from '$lib/work';
 import type { User } from './auth/guard';
 import { db } from './db/index';
 import { evidence, evidenceVoids, stepEntries } from './db/schema/index';
@@ -14,6 +14,7 @@ import {
 	loadState,
 	lockWorkOrder,
 	mustBeAssignedAndQualified,
+	mustBeInProgress,
 	staleStep,
 	stillAssigned,
 	type WorkOrderState
@@ -282,14 +283,7 @@ function placeOf(s: WorkOrderState, target: PhotoTarget) {
 
 /** Photos change a step only while the work is in progress and the step is not signed. */
 function mayChangeStep(s: WorkOrderState, stepKey: string) {
-	if (s.status !== 'in_progress')
-		throw new RecordError(
-			s.status === 'planned'
-				? 'Start the work order before attaching photos.'
-				: `This work order is ${workStatusLabels[s.status]}: photos can no longer be attached or voided.`,
-			undefined,
-			409
-		);
+	mustBeInProgress(s, 'attaching photos', 'photos can no longer be attached or voided');
 	const step = s.steps.find((x) => x.step.key === stepKey)!;
 	const reopened = s.transitions.at(-1)?.kind === 'returned';
 	if ((step.status.state === 'performed' || step.status.state === 'verified') && !reopened)

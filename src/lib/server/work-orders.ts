@@ -856,6 +856,18 @@ export async function changePlan(
 // ── Execution ────────────────────────────────────────────────────────────────
 
 /** Under the work order's lock: still assigned (a plan change may have removed the person meanwhile). */
+/** Work is entered only while the work order is in progress: 409 with what to do otherwise. */
+export function mustBeInProgress(s: WorkOrderState, doing: string, noLonger: string) {
+	if (s.status !== 'in_progress')
+		throw new RecordError(
+			s.status === 'planned'
+				? `Start the work order before ${doing}.`
+				: `This work order is ${workStatusLabels[s.status]}: ${noLonger}.`,
+			undefined,
+			409
+		);
+}
+
 export function stillAssigned(user: User, s: WorkOrderState) {
 	if (!s.plan.assignees.includes(user.id))
 		throw new RecordError(
@@ -1364,14 +1376,7 @@ export async function saveStep(
 		await lockWorkOrder(tx, id);
 		const s = (await loadState(tx, id))!;
 		stillAssigned(user, s);
-		if (s.status !== 'in_progress')
-			throw new RecordError(
-				s.status === 'planned'
-					? 'Start the work order before entering values.'
-					: `This work order is ${workStatusLabels[s.status]}: values can no longer be entered.`,
-				undefined,
-				409
-			);
+		mustBeInProgress(s, 'entering values', 'values can no longer be entered');
 		const step = s.steps.find((x) => x.step.key === stepKey)!;
 		if (step.status.revision !== input.seen) throw staleStep();
 		// After Quality returns the record, verified steps may be corrected (and signed again).
@@ -1525,14 +1530,7 @@ async function passAction(
 		await lockWorkOrder(tx, id);
 		const s = (await loadState(tx, id))!;
 		stillAssigned(user, s);
-		if (s.status !== 'in_progress')
-			throw new RecordError(
-				s.status === 'planned'
-					? 'Start the work order before tightening.'
-					: `This work order is ${workStatusLabels[s.status]}: passes can no longer be ticked.`,
-				undefined,
-				409
-			);
+		mustBeInProgress(s, 'tightening', 'passes can no longer be ticked');
 		const step = s.steps.find((x) => x.step.key === stepKey)!;
 		if (step.status.revision !== seen) throw staleStep();
 		const reopened = s.transitions.at(-1)?.kind === 'returned';

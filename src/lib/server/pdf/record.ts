@@ -146,8 +146,15 @@ export const pdfText = (text: string) =>
 	[...text.replace(/\s+/g, ' ')].map((c) => SPELLED[c] ?? c).join('');
 
 /** Splits text into runs each drawn with the first subset that has every glyph; others become "?". */
+const charSets = new WeakMap<PDFFont, Set<number>>();
+const charSet = (f: PDFFont) => {
+	let set = charSets.get(f);
+	if (!set) charSets.set(f, (set = new Set(f.getCharacterSet())));
+	return set;
+};
+
 function runs(text: string, fonts: PDFFont[]) {
-	const sets = fonts.map((f) => new Set(f.getCharacterSet()));
+	const sets = fonts.map(charSet);
 	const out: { font: PDFFont; text: string }[] = [];
 	for (const ch of pdfText(text)) {
 		const code = ch.codePointAt(0)!;
@@ -188,17 +195,22 @@ class Layout {
 			0
 		);
 	}
-	/** Wraps text to the width, returns its lines. */
+	/** Wraps text to the width, returns its lines (each word measured once). */
 	wrap(text: string, size: number, maxWidth: number, bold = false) {
 		const lines: string[] = [];
+		const space = this.width(' ', size, bold);
 		for (const paragraph of text.split('\n')) {
 			let line = '';
+			let width = 0;
 			for (const word of paragraph.split(' ')) {
-				const next = line ? `${line} ${word}` : word;
-				if (this.width(next, size, bold) <= maxWidth || !line) line = next;
-				else {
+				const w = this.width(word, size, bold);
+				if (!line || width + space + w <= maxWidth) {
+					width = line ? width + space + w : w;
+					line = line ? `${line} ${word}` : word;
+				} else {
 					lines.push(line);
 					line = word;
+					width = w;
 				}
 			}
 			lines.push(line);
@@ -276,18 +288,18 @@ export async function renderRecordPdf(r: RecordInput, o: RenderOptions): Promise
 	const doc = await PDFDocument.create();
 	doc.registerFontkit(fontkit);
 	const embed = (name: string) => doc.embedFont(fontFile(name), { subset: true });
-	const fonts: Fonts = {
-		regular: [
-			await embed('latin-400-normal'),
-			await embed('latin-ext-400-normal'),
-			await embed('greek-400-normal')
-		],
-		bold: [
-			await embed('latin-700-normal'),
-			await embed('latin-ext-700-normal'),
-			await embed('greek-700-normal')
-		]
-	};
+	// The subsets the record needs: latin always; latin-ext and greek only when some text has them.
+	const all = JSON.stringify(r);
+	const subsets = [
+		'latin',
+		...(/[\u0100-\u024f\u1e00-\u1eff]/.test(all) ? ['latin-ext'] : []),
+		...(/[\u0370-\u03ff]/.test(all) ? ['greek'] : [])
+	];
+	const fonts: Fonts = { regular: [], bold: [] };
+	for (const subset of subsets) {
+		fonts.regular.push(await embed(`${subset}-400-normal`));
+		fonts.bold.push(await embed(`${subset}-700-normal`));
+	}
 	const title = `Maintenance record ${r.wo.number}`;
 	doc.setTitle(title);
 	doc.setSubject(`${r.equipment.tag} · ${r.wo.procedureCode} version ${r.wo.procedureVersion}`);
