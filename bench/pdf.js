@@ -188,8 +188,9 @@ for (let i = 0; i < 7; i++) {
 	size = bytes.length;
 }
 times.sort((a, b) => a - b);
+const ms = (/** @type {number | undefined} */ t) => (t ?? 0).toFixed(0);
 console.log('PDF record: 30 steps × 3 values (30 corrected), 10 photos, 200 audit events');
 console.log(
-	`  render: median ${times[3].toFixed(0)} ms, best ${times[0].toFixed(0)} ms, worst ${times[6].toFixed(0)} ms (7 runs, target < 1000 ms)`
+	`  render: median ${ms(times[3])} ms, best ${ms(times[0])} ms, worst ${ms(times[6])} ms (7 runs, target < 1000 ms)`
 );
 console.log(`  size:   ${(size / 1024).toFixed(0)} KB`);
