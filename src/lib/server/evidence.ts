@@ -15,6 +15,7 @@ import {
 	lockWorkOrder,
 	mustBeAssignedAndQualified,
 	mustBeInProgress,
+	mustBeUnsigned,
 	staleStep,
 	stillAssigned,
 	type WorkOrderState
@@ -284,10 +285,7 @@ function placeOf(s: WorkOrderState, target: PhotoTarget) {
 /** Photos change a step only while the work is in progress and the step is not signed. */
 function mayChangeStep(s: WorkOrderState, stepKey: string) {
 	mustBeInProgress(s, 'attaching photos', 'photos can no longer be attached or voided');
-	const step = s.steps.find((x) => x.step.key === stepKey)!;
-	const reopened = s.transitions.at(-1)?.kind === 'returned';
-	if ((step.status.state === 'performed' || step.status.state === 'verified') && !reopened)
-		throw new RecordError('This step is signed: its photos can no longer change.', undefined, 409);
+	mustBeUnsigned(s, stepKey, 'its photos can no longer change');
 }
 
 /**

@@ -214,7 +214,11 @@ export async function loadState(tx: Transaction, id: string) {
 	}));
 	// The equipment's data as registered now: fasteners, torque and compression band (manufacturer's figures).
 	const [equipmentData] = await tx
-		.select({ attributes: equipmentVersions.attributes })
+		.select({
+			description: equipmentVersions.description,
+			equipmentClass: equipmentVersions.equipmentClass,
+			attributes: equipmentVersions.attributes
+		})
 		.from(equipmentVersions)
 		.where(eq(equipmentVersions.equipmentId, wo.equipmentId))
 		.orderBy(desc(equipmentVersions.version))
@@ -316,6 +320,7 @@ export async function loadState(tx: Transaction, id: string) {
 		passes,
 		photos,
 		attributes: (equipmentData?.attributes ?? {}) as Record<string, unknown>,
+		equipmentData,
 		deviations: deviationRows,
 		steps,
 		trailReview,
@@ -409,16 +414,7 @@ async function trailOf(tx: Transaction, s: Pick<WorkOrderState, 'wo' | 'deviatio
 export async function getWorkOrder(id: string) {
 	const s = await loadState(db(), id);
 	if (!s) return undefined;
-	const [equipmentRow] = await db()
-		.select({
-			description: equipmentVersions.description,
-			equipmentClass: equipmentVersions.equipmentClass,
-			attributes: equipmentVersions.attributes
-		})
-		.from(equipmentVersions)
-		.where(eq(equipmentVersions.equipmentId, s.wo.equipmentId))
-		.orderBy(desc(equipmentVersions.version))
-		.limit(1);
+	const equipmentRow = s.equipmentData;
 	const equipmentStatus = await currentEquipmentStatus(db(), s.wo.equipmentId);
 	const people = s.plan.assignees.length
 		? await db()
@@ -868,6 +864,14 @@ export function mustBeInProgress(s: WorkOrderState, doing: string, noLonger: str
 		);
 }
 
+/** A signed step takes no more passes or photos, unless Quality returned the record. */
+export function mustBeUnsigned(s: WorkOrderState, stepKey: string, noLonger: string) {
+	const step = s.steps.find((x) => x.step.key === stepKey)!;
+	const reopened = s.transitions.at(-1)?.kind === 'returned';
+	if ((step.status.state === 'performed' || step.status.state === 'verified') && !reopened)
+		throw new RecordError(`This step is signed: ${noLonger}.`, undefined, 409);
+}
+
 export function stillAssigned(user: User, s: WorkOrderState) {
 	if (!s.plan.assignees.includes(user.id))
 		throw new RecordError(
@@ -1049,13 +1053,7 @@ async function resolveValue(
 			.where(eq(partVersions.partId, lot.partId))
 			.orderBy(desc(partVersions.version))
 			.limit(1);
-		const [ev] = await db()
-			.select({ attributes: equipmentVersions.attributes })
-			.from(equipmentVersions)
-			.where(eq(equipmentVersions.equipmentId, s.wo.equipmentId))
-			.orderBy(desc(equipmentVersions.version))
-			.limit(1);
-		const wanted = String(ev?.attributes.diaphragmMaterialCode ?? '');
+		const wanted = String(s.attributes.diaphragmMaterialCode ?? '');
 		if (!pv || pv.materialCode !== wanted)
 			return `Wrong part: ${lot.partNumber} is material ${pv?.materialCode ?? '?'}, ${s.wo.equipmentTag} needs ${wanted || 'a material code set on the equipment'}. Do not fit it.`;
 		if (lot.receivedOn > day)
@@ -1533,13 +1531,7 @@ async function passAction(
 		mustBeInProgress(s, 'tightening', 'passes can no longer be ticked');
 		const step = s.steps.find((x) => x.step.key === stepKey)!;
 		if (step.status.revision !== seen) throw staleStep();
-		const reopened = s.transitions.at(-1)?.kind === 'returned';
-		if ((step.status.state === 'performed' || step.status.state === 'verified') && !reopened)
-			throw new RecordError(
-				'This step is signed: the tightening can no longer change on it.',
-				undefined,
-				409
-			);
+		mustBeUnsigned(s, stepKey, 'the tightening can no longer change on it');
 		const plan = planOf(field, s);
 		if (!plan.ok) throw new RecordError(plan.message, undefined, 409);
 		const progress = passProgress(s.passes, stepKey, fieldKey);
