@@ -102,6 +102,7 @@ test('sign-out ends the session on the server: the old cookie no longer works', 
 test('an idle session ends on the next request', async ({ page }) => {
 	await signIn(page, 'inspector');
 	await expect(page).toHaveURL('/');
+	await page.waitForLoadState('networkidle'); // no request of the home page still in flight
 	// Sixteen minutes pass without a request (the idle limit is 15): move the session's last request back.
 	const sql = ownerSql();
 	await sql`update sessions set last_seen_at = now() - interval '16 minutes'

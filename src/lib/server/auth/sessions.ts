@@ -130,7 +130,15 @@ export async function checkSession(sessionId: string): Promise<SessionUser | nul
 	await db()
 		.update(sessions)
 		.set({ lastSeenAt: sql`now()` })
-		.where(and(eq(sessions.id, sessionId), isNull(sessions.endedAt)));
+		// Only a session that is still within its idle time is touched: a request that read the row a moment
+		// before the idle limit passed must not bring an idle session back to life.
+		.where(
+			and(
+				eq(sessions.id, sessionId),
+				isNull(sessions.endedAt),
+				sql`${sessions.lastSeenAt} > now() - ${settings.SESSION_IDLE_MINUTES * 60}::float8 * interval '1 second'`
+			)
+		);
 	const { active: _active, lockedAt: _lockedAt, ...account } = row.account;
 	return { ...account, sessionId };
 }
