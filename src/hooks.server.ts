@@ -5,14 +5,20 @@ import { handle as authHandle } from '$lib/server/auth/index';
 import { guard } from '$lib/server/auth/guard';
 import { closeDatabase } from '$lib/server/db/index';
 import { log } from '$lib/server/log';
+import { startOutboxWorker, stopOutboxWorker } from '$lib/server/outbox';
+import '$lib/server/pdf/index'; // registers the released-record job of the outbox
+import { env } from '$env/dynamic/private';
 
 export const init: ServerInit = async () => {
 	// adapter-node emits this on SIGTERM/SIGINT once the HTTP server has closed: the open pool
 	// would otherwise keep the process alive.
 	process.once('sveltekit:shutdown', async (reason: string) => {
+		await stopOutboxWorker();
 		await closeDatabase();
 		log.info('server stopped', { reason });
 	});
+	// The outbox worker (7/10): e-mails and released records after their transactions commit.
+	if (env.OUTBOX_WORKER !== 'off') startOutboxWorker(Number(env.OUTBOX_INTERVAL_MS ?? 5000));
 };
 
 const MAX_BODY = 1024 * 1024;

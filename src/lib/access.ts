@@ -57,6 +57,8 @@ export const routeAccess = {
 	'/(app)/work/[id=uuid]/steps': technicians,
 	'/(app)/work/[id=uuid]/evidence': technicians,
 	'/(app)/work/[id=uuid]/record.pdf': readers,
+	'/(app)/work/[id=uuid]/released.pdf': readers,
+	'/(app)/verify': 'signed-in',
 	'/(app)/work/[id=uuid]/evidence/[evidence=uuid]': readers,
 	'/(app)/work/[id=uuid]/steps/[key=stepkey]': technicians,
 	'/api/v1/queues': 'signed-in',

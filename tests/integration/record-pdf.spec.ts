@@ -38,7 +38,7 @@ beforeAll(async () => {
 	const released = list.find((w) => w.tag === 'XV-4205')!;
 	found = (await work.getWorkOrder(released.id))!;
 	expect(found.status).toBe('released');
-	const pdf = (await recordPdf(released.id, { origin: 'http://127.0.0.1:3000' }))!;
+	const pdf = (await recordPdf(released.id, { origin: 'http://127.0.0.1:3000', printedBy: null }))!;
 	const dir = join(tmpdir(), `countersign-pdf-${process.pid}`);
 	mkdirSync(dir, { recursive: true });
 	file = join(dir, 'record.pdf');

@@ -85,6 +85,9 @@ const paths = (): Record<string, string> => ({
 	// Upload is POST only (a GET is 405 to those allowed); an unknown photo is 404.
 	'/(app)/work/[id=uuid]/evidence': `/work/${ids.workOrder}/evidence`,
 	'/(app)/work/[id=uuid]/record.pdf': `/work/${ids.workOrder}/record.pdf`,
+	// Not released: 404 to those allowed.
+	'/(app)/work/[id=uuid]/released.pdf': `/work/${ids.workOrder}/released.pdf`,
+	'/(app)/verify': `/verify?record=${'0'.repeat(64)}`,
 	'/(app)/work/[id=uuid]/evidence/[evidence=uuid]': `/work/${ids.workOrder}/evidence/00000000-0000-4000-8000-000000000000`,
 	'/api/v1/queues': '/api/v1/queues',
 	'/(app)/people': '/people',

@@ -8,6 +8,7 @@ import { hashPassword, passwordProblems, verifyPassword } from './auth/passwords
 import { endSessionsOf } from './auth/sessions';
 import { db } from './db/index';
 import { accounts } from './db/schema/index';
+import { kickOutbox } from './outbox';
 
 /** Thrown for a refused change; `field` names the form field the message belongs beside. */
 export class AccountError extends Error {
@@ -270,6 +271,7 @@ export async function changeOwnPassword(
 			});
 			await lockIfDue(tx, account, count, clientAddress);
 		});
+		kickOutbox(); // the Administrators' e-mail, when it locked
 		throw new AccountError(
 			'That is not your current password. Five wrong passwords in a row lock the account.',
 			'currentPassword',

@@ -72,9 +72,18 @@ import {
 	stepSignoffs,
 	workOrderPlans,
 	workOrders,
-	workOrderTransitions
+	workOrderTransitions,
+	releasedRecords
 } from './db/schema/index';
 import { lockEquipment, setStatus } from './equipment';
+import {
+	notifyDeviation,
+	notifyReleaseWaiting,
+	notifyReturned,
+	notifyVerificationWaiting,
+	type WorkRef
+} from './notify';
+import { enqueue, kickOutbox } from './outbox';
 import { instrumentFitness, getInstrument } from './instruments';
 import { effectiveVersion } from './procedures';
 import { currentSite } from './plant';
@@ -109,6 +118,22 @@ export async function lockWorkOrder(tx: Transaction, id: string) {
 }
 
 const iso = (d: Date) => d.toISOString();
+
+/** What a notification names of a work order. */
+const workRef = (s: WorkOrderState): WorkRef => ({
+	id: s.wo.id,
+	number: s.wo.number,
+	equipmentTag: s.wo.equipmentTag,
+	procedureId: s.wo.procedureId,
+	procedureCode: s.wo.procedureCode
+});
+
+/** Runs a transaction that may write outbox rows, then has the worker take them. */
+async function thenKick<T>(work: Promise<T>): Promise<T> {
+	const out = await work;
+	kickOutbox();
+	return out;
+}
 
 async function siteOrFail() {
 	const site = await currentSite();
@@ -463,8 +488,18 @@ export async function getWorkOrder(id: string) {
 			matches
 		};
 	});
+	const [released] = await db()
+		.select({
+			sha256: releasedRecords.sha256,
+			size: releasedRecords.size,
+			storedAt: releasedRecords.recordedAt
+		})
+		.from(releasedRecords)
+		.where(eq(releasedRecords.workOrderId, s.wo.id));
 	return {
 		...s,
+		/** The released original PDF, once the outbox has stored it. */
+		released: released ?? null,
 		equipment: {
 			id: s.wo.equipmentId,
 			tag: s.wo.equipmentTag,
@@ -1370,102 +1405,112 @@ export async function saveStep(
 	if (Object.keys(errors).length) throw new EntryErrors(errors, reasonMissing ? 422 : 400);
 	if (!changes.length) throw new EntryErrors({ form: 'Nothing new to save on this step.' });
 
-	return db().transaction(async (tx) => {
-		await lockWorkOrder(tx, id);
-		const s = (await loadState(tx, id))!;
-		stillAssigned(user, s);
-		mustBeInProgress(s, 'entering values', 'values can no longer be entered');
-		const step = s.steps.find((x) => x.step.key === stepKey)!;
-		if (step.status.revision !== input.seen) throw staleStep();
-		// After Quality returns the record, verified steps may be corrected (and signed again).
-		const reopened = s.transitions.at(-1)?.kind === 'returned';
-		if (step.status.state === 'verified' && !reopened)
-			throw new RecordError(
-				'This step is verified: it can be corrected only after Quality returns the work order.',
-				undefined,
-				409
-			);
-		const saved: { field: string; entryId: string; deviation: string | null }[] = [];
-		for (const c of changes) {
-			const entryId = c.entryId;
-			const reason = c.corrects ? (c.reason ?? input.reasons[c.field.key]!.trim()) : null;
-			const rec = await appendRecordEvent(tx, by, {
-				action: c.corrects ? 'work_order.entry_correct' : 'work_order.entry',
-				entityType: 'work_order',
-				entityId: id,
-				newValues: {
-					entryId,
-					step: stepKey,
-					field: c.field.key,
-					value: c.resolved.value,
-					text: valueText(c.field, c.resolved.value),
-					withinLimits: c.within,
-					performedAt: iso(performedAt),
-					lateReason: late ? input.lateReason.trim() : null
-				},
-				previousValues: c.corrects
-					? {
-							entryId: c.corrects.id,
-							value: c.corrects.value,
-							text: valueText(c.field, c.corrects.value),
-							withinLimits: c.corrects.withinLimits
-						}
-					: null,
-				reason,
-				clientAddress
-			});
-			await tx.insert(stepEntries).values({
-				id: entryId,
-				workOrderId: id,
-				stepKey,
-				fieldKey: c.field.key,
-				value: c.resolved.value,
-				withinLimits: c.within,
-				lotId: c.resolved.lotId ?? null,
-				instrumentId: c.resolved.instrumentId ?? null,
-				calibrationDueOn: c.resolved.dueOn ?? null,
-				performedAt,
-				lateReason: late ? input.lateReason.trim() : null,
-				corrects: c.corrects?.id ?? null,
-				reason,
-				...rec
-			});
-			let deviation: string | null = null;
-			if (c.within === false) {
-				const number = await nextNumber(tx, 'DEV', day.slice(0, 4));
-				const deviationId = randomUUID();
-				const description = input.deviations[c.field.key]!.trim();
-				const drec = await appendRecordEvent(tx, by, {
-					action: 'deviation.raise',
+	return thenKick(
+		db().transaction(async (tx) => {
+			await lockWorkOrder(tx, id);
+			const s = (await loadState(tx, id))!;
+			stillAssigned(user, s);
+			mustBeInProgress(s, 'entering values', 'values can no longer be entered');
+			const step = s.steps.find((x) => x.step.key === stepKey)!;
+			if (step.status.revision !== input.seen) throw staleStep();
+			// After Quality returns the record, verified steps may be corrected (and signed again).
+			const reopened = s.transitions.at(-1)?.kind === 'returned';
+			if (step.status.state === 'verified' && !reopened)
+				throw new RecordError(
+					'This step is verified: it can be corrected only after Quality returns the work order.',
+					undefined,
+					409
+				);
+			const saved: { field: string; entryId: string; deviation: string | null }[] = [];
+			for (const c of changes) {
+				const entryId = c.entryId;
+				const reason = c.corrects ? (c.reason ?? input.reasons[c.field.key]!.trim()) : null;
+				const rec = await appendRecordEvent(tx, by, {
+					action: c.corrects ? 'work_order.entry_correct' : 'work_order.entry',
 					entityType: 'work_order',
 					entityId: id,
 					newValues: {
-						deviationId,
-						number,
+						entryId,
 						step: stepKey,
 						field: c.field.key,
-						entryId,
-						value: valueText(c.field, c.resolved.value),
-						description
+						value: c.resolved.value,
+						text: valueText(c.field, c.resolved.value),
+						withinLimits: c.within,
+						performedAt: iso(performedAt),
+						lateReason: late ? input.lateReason.trim() : null
 					},
+					previousValues: c.corrects
+						? {
+								entryId: c.corrects.id,
+								value: c.corrects.value,
+								text: valueText(c.field, c.corrects.value),
+								withinLimits: c.corrects.withinLimits
+							}
+						: null,
+					reason,
 					clientAddress
 				});
-				await tx.insert(deviations).values({
-					id: deviationId,
-					number,
+				await tx.insert(stepEntries).values({
+					id: entryId,
 					workOrderId: id,
 					stepKey,
 					fieldKey: c.field.key,
-					entryId,
-					description,
-					...drec
+					value: c.resolved.value,
+					withinLimits: c.within,
+					lotId: c.resolved.lotId ?? null,
+					instrumentId: c.resolved.instrumentId ?? null,
+					calibrationDueOn: c.resolved.dueOn ?? null,
+					performedAt,
+					lateReason: late ? input.lateReason.trim() : null,
+					corrects: c.corrects?.id ?? null,
+					reason,
+					...rec
 				});
-				deviation = number;
+				let deviation: string | null = null;
+				if (c.within === false) {
+					const number = await nextNumber(tx, 'DEV', day.slice(0, 4));
+					const deviationId = randomUUID();
+					const description = input.deviations[c.field.key]!.trim();
+					const drec = await appendRecordEvent(tx, by, {
+						action: 'deviation.raise',
+						entityType: 'work_order',
+						entityId: id,
+						newValues: {
+							deviationId,
+							number,
+							step: stepKey,
+							field: c.field.key,
+							entryId,
+							value: valueText(c.field, c.resolved.value),
+							description
+						},
+						clientAddress
+					});
+					await tx.insert(deviations).values({
+						id: deviationId,
+						number,
+						workOrderId: id,
+						stepKey,
+						fieldKey: c.field.key,
+						entryId,
+						description,
+						...drec
+					});
+					await notifyDeviation(
+						tx,
+						workRef(s0),
+						{ number, stepKey, stepPosition: found.position, description },
+						user.name,
+						[user.id, ...hands(s0)],
+						drec.auditSeq
+					);
+					deviation = number;
+				}
+				saved.push({ field: c.field.key, entryId, deviation });
 			}
-			saved.push({ field: c.field.key, entryId, deviation });
-		}
-		return saved;
-	});
+			return saved;
+		})
+	);
 }
 
 /**
@@ -1721,21 +1766,43 @@ export async function performStep(
 	check(s0);
 	const record = stepRecord(s0, stepKey);
 	await reauthenticate(user, password, { record, meaning: 'performed' }, clientAddress);
-	return db().transaction(async (tx) => {
-		await lockWorkOrder(tx, id);
-		const s = (await loadState(tx, id))!;
-		check(s);
-		stillAssigned(user, s);
-		const signature = await recordSignature(
-			tx,
-			user,
-			stepRecord(s, stepKey),
-			'performed',
-			clientAddress
-		);
-		await insertSignoff(tx, user, s, stepKey, 'performed', signature, null, clientAddress);
-		return signature;
-	});
+	return thenKick(
+		db().transaction(async (tx) => {
+			await lockWorkOrder(tx, id);
+			const s = (await loadState(tx, id))!;
+			check(s);
+			stillAssigned(user, s);
+			const signature = await recordSignature(
+				tx,
+				user,
+				stepRecord(s, stepKey),
+				'performed',
+				clientAddress
+			);
+			const seq = await insertSignoff(
+				tx,
+				user,
+				s,
+				stepKey,
+				'performed',
+				signature,
+				null,
+				clientAddress
+			);
+			const step = s.steps.find((x) => x.step.key === stepKey)!;
+			if (step.step.verificationRequired)
+				await notifyVerificationWaiting(
+					tx,
+					workRef(s),
+					{ key: stepKey, position: step.position, title: step.step.title },
+					user.name,
+					[user.id, ...hands(s, stepKey)],
+					siteToday(site.timeZone),
+					seq
+				);
+			return signature;
+		})
+	);
 }
 
 async function insertSignoff(
@@ -1769,6 +1836,7 @@ async function insertSignoff(
 		reason,
 		...rec
 	});
+	return rec.auditSeq;
 }
 
 /** What makes someone a possible verifier of a step: a qualified technician who had no hand in it (ES8). */
@@ -1905,8 +1973,26 @@ export async function returnStep(
 			);
 		if (step.status.revision !== seen)
 			throw new RecordError('This step changed since you opened it.', undefined, 409);
-		await insertSignoff(tx, user, s, stepKey, 'returned', null, reason.trim(), clientAddress);
+		const seq = await insertSignoff(
+			tx,
+			user,
+			s,
+			stepKey,
+			'returned',
+			null,
+			reason.trim(),
+			clientAddress
+		);
+		const performer = step.status.performed?.recordedBy;
+		await notifyReturned(
+			tx,
+			workRef(s),
+			{ stepKey, stepPosition: step.position, reason: reason.trim(), by: user.name },
+			performer ? [performer] : [],
+			seq
+		);
 	});
+	kickOutbox();
 }
 
 /** Every step done: the technician signs the work order Executed; the equipment awaits release. */
@@ -1945,25 +2031,28 @@ export async function completeExecution(
 		{ record: workRecord(s0), meaning: 'executed' },
 		clientAddress
 	);
-	return db().transaction(async (tx) => {
-		await lockWorkOrder(tx, id);
-		const s = (await loadState(tx, id))!;
-		check(s);
-		stillAssigned(user, s);
-		await lockEquipment(tx, s.wo.equipmentId);
-		const signature = await recordSignature(tx, user, workRecord(s), 'executed', clientAddress);
-		await transition(tx, user, s, 'executed', signature, null, clientAddress);
-		await setStatus(
-			tx,
-			personOf(user),
-			s.wo.equipmentId,
-			'awaiting_release',
-			`Work order ${s.wo.number} executed`,
-			{ type: 'work_order', id },
-			clientAddress
-		);
-		return signature;
-	});
+	return thenKick(
+		db().transaction(async (tx) => {
+			await lockWorkOrder(tx, id);
+			const s = (await loadState(tx, id))!;
+			check(s);
+			stillAssigned(user, s);
+			await lockEquipment(tx, s.wo.equipmentId);
+			const signature = await recordSignature(tx, user, workRecord(s), 'executed', clientAddress);
+			const seq = await transition(tx, user, s, 'executed', signature, null, clientAddress);
+			await notifyReleaseWaiting(tx, workRef(s), user.name, [user.id, ...hands(s)], seq);
+			await setStatus(
+				tx,
+				personOf(user),
+				s.wo.equipmentId,
+				'awaiting_release',
+				`Work order ${s.wo.number} executed`,
+				{ type: 'work_order', id },
+				clientAddress
+			);
+			return signature;
+		})
+	);
 }
 
 async function transition(
@@ -1998,6 +2087,7 @@ async function transition(
 		signatureId: signature?.id ?? null,
 		...rec
 	});
+	return rec.auditSeq;
 }
 
 // ── Quality ──────────────────────────────────────────────────────────────────
@@ -2200,31 +2290,35 @@ export async function releaseWorkOrder(
 		{ record: workRecord(s0, true), meaning: 'released' },
 		clientAddress
 	);
-	return db().transaction(async (tx) => {
-		await lockWorkOrder(tx, id);
-		const s = (await loadState(tx, id))!;
-		check(s);
-		await lockEquipment(tx, s.wo.equipmentId);
-		if (hands(s).has(user.id)) throw tookPartError();
-		const signature = await recordSignature(
-			tx,
-			user,
-			workRecord(s, true),
-			'released',
-			clientAddress
-		);
-		await transition(tx, user, s, 'released', signature, null, clientAddress);
-		await setStatus(
-			tx,
-			personOf(user),
-			s.wo.equipmentId,
-			'in_service',
-			`Released by Quality under work order ${s.wo.number}`,
-			{ type: 'work_order', id },
-			clientAddress
-		);
-		return signature;
-	});
+	return thenKick(
+		db().transaction(async (tx) => {
+			await lockWorkOrder(tx, id);
+			const s = (await loadState(tx, id))!;
+			check(s);
+			await lockEquipment(tx, s.wo.equipmentId);
+			if (hands(s).has(user.id)) throw tookPartError();
+			const signature = await recordSignature(
+				tx,
+				user,
+				workRecord(s, true),
+				'released',
+				clientAddress
+			);
+			const seq = await transition(tx, user, s, 'released', signature, null, clientAddress);
+			// The released PDF is rendered and stored after this commits, so no slow work holds the chain head.
+			await enqueue(tx, { kind: 'released_record', payload: { workOrderId: id } }, seq);
+			await setStatus(
+				tx,
+				personOf(user),
+				s.wo.equipmentId,
+				'in_service',
+				`Released by Quality under work order ${s.wo.number}`,
+				{ type: 'work_order', id },
+				clientAddress
+			);
+			return signature;
+		})
+	);
 }
 
 /** Quality returns an executed record for correction with a reason: back to In progress, equipment Out of service. */
@@ -2259,25 +2353,43 @@ export async function returnWorkOrder(
 		{ record: workRecord(s0), meaning: 'returned' },
 		clientAddress
 	);
-	return db().transaction(async (tx) => {
-		await lockWorkOrder(tx, id);
-		const s = (await loadState(tx, id))!;
-		check(s);
-		await lockEquipment(tx, s.wo.equipmentId);
-		if (hands(s).has(user.id)) throw tookPartError();
-		const signature = await recordSignature(tx, user, workRecord(s), 'returned', clientAddress);
-		await transition(tx, user, s, 'returned', signature, reason.trim(), clientAddress);
-		await setStatus(
-			tx,
-			personOf(user),
-			s.wo.equipmentId,
-			'out_of_service',
-			`Work order ${s.wo.number} returned for correction`,
-			{ type: 'work_order', id },
-			clientAddress
-		);
-		return signature;
-	});
+	return thenKick(
+		db().transaction(async (tx) => {
+			await lockWorkOrder(tx, id);
+			const s = (await loadState(tx, id))!;
+			check(s);
+			await lockEquipment(tx, s.wo.equipmentId);
+			if (hands(s).has(user.id)) throw tookPartError();
+			const signature = await recordSignature(tx, user, workRecord(s), 'returned', clientAddress);
+			const seq = await transition(
+				tx,
+				user,
+				s,
+				'returned',
+				signature,
+				reason.trim(),
+				clientAddress
+			);
+			const executedBy = s.transitions.findLast((t) => t.kind === 'executed')?.recordedBy;
+			await notifyReturned(
+				tx,
+				workRef(s),
+				{ reason: reason.trim(), by: user.name },
+				executedBy ? [executedBy] : [],
+				seq
+			);
+			await setStatus(
+				tx,
+				personOf(user),
+				s.wo.equipmentId,
+				'out_of_service',
+				`Work order ${s.wo.number} returned for correction`,
+				{ type: 'work_order', id },
+				clientAddress
+			);
+			return signature;
+		})
+	);
 }
 
 // ── Queues and traceability ──────────────────────────────────────────────────

@@ -3,6 +3,7 @@ import { recordEvent } from '../audit/index';
 import type { Transaction } from '../db/index';
 import { accounts } from '../db/schema/index';
 import { log } from '../log';
+import { notifyLocked } from '../notify';
 import { authSettings } from './settings';
 
 /**
@@ -30,7 +31,7 @@ export async function lockIfDue(
 		.update(accounts)
 		.set({ lockedAt: sql`now()` })
 		.where(eq(accounts.id, account.id));
-	await recordEvent(tx, {
+	const event = await recordEvent(tx, {
 		actor: { kind: 'system', name: 'system: sign-in guard' },
 		action: 'auth.lockout',
 		entityType: 'account',
@@ -40,7 +41,8 @@ export async function lockIfDue(
 		reason: `${count.failures} consecutive failed passwords (sign-in or signing)`,
 		clientAddress
 	});
-	// E-mail to the administrators arrives with 7/10; until then the log and their queue show it.
+	// The Administrators are told by e-mail (sent from the outbox once this commits; the caller kicks it).
+	await notifyLocked(tx, account, count.failures, event.seq);
 	log.warn('account locked after failed passwords', {
 		accountId: account.id,
 		username: account.username,

@@ -2,6 +2,7 @@ import { eq, sql } from 'drizzle-orm';
 import { recordEvent } from '../audit/index';
 import { db } from '../db/index';
 import { accounts } from '../db/schema/index';
+import { kickOutbox } from '../outbox';
 import { countFailedPassword, lockIfDue } from './lockout';
 import { decoyHash, verifyPassword } from './passwords';
 import { authSettings } from './settings';
@@ -9,7 +10,12 @@ import { clearFailures, recordFailure, secondsToWait, throttleKeys } from './thr
 
 export type SignInResult =
 	| { ok: true; account: { id: string; username: string; name: string; email: string } }
-	| { ok: false; code: 'credentials' | 'locked' | 'throttled'; retryAfter?: number };
+	| {
+			ok: false;
+			code: 'credentials' | 'locked' | 'throttled';
+			retryAfter?: number;
+			lockedNow?: boolean;
+	  };
 
 export const normaliseUsername = (username: string) => username.trim().toLowerCase();
 
@@ -34,7 +40,7 @@ export async function attemptSignIn(input: {
 	// One transaction, with the account's row locked from the first check to the last write:
 	// parallel guesses at one account queue up, each sees the count the one before left, and
 	// none gets past the lockout (nor resets it).
-	return db().transaction(async (tx): Promise<SignInResult> => {
+	const result = await db().transaction(async (tx): Promise<SignInResult> => {
 		// A locked account says so first: waiting would not help it.
 		const [account] = await tx
 			.select()
@@ -112,4 +118,6 @@ export async function attemptSignIn(input: {
 			return { ok: false, code: 'locked' };
 		return { ok: false, code: 'credentials' };
 	});
+	if (!result.ok && result.code === 'locked') kickOutbox(); // the Administrators' e-mail, if it locked now
+	return result;
 }

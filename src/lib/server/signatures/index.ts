@@ -8,6 +8,7 @@ import { countFailedPassword, lockIfDue } from '../auth/lockout';
 import { verifyPassword } from '../auth/passwords';
 import { db, type Transaction } from '../db/index';
 import { accounts, signatures } from '../db/schema/index';
+import { kickOutbox } from '../outbox';
 
 /**
  * Electronic signatures (21 CFR 11.50, 11.70, 11.200; EU GMP Annex 11 §14; REQUIREMENTS ES1–ES8).
@@ -93,6 +94,7 @@ export async function reauthenticate(
 		});
 		return (await lockIfDue(tx, account, count, clientAddress)) ? 'locked_now' : 'wrong';
 	});
+	if (outcome === 'locked_now') kickOutbox(); // the Administrators' e-mail
 	if (outcome === 'ok') return;
 	if (outcome === 'locked' || outcome === 'inactive') {
 		await refused(outcome);

@@ -5,3 +5,4 @@ export * from './plant';
 export * from './signatures';
 export * from './master';
 export * from './work';
+export * from './outbox';

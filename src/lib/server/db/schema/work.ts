@@ -1,5 +1,6 @@
 import { sql } from 'drizzle-orm';
 import {
+	bigint,
 	boolean,
 	check,
 	date,
@@ -14,6 +15,7 @@ import {
 	uuid
 } from 'drizzle-orm/pg-core';
 import type { EntryValue } from '../../../work';
+import { accounts } from './accounts';
 import { recorded } from './columns';
 import { equipment, instruments, partLots, procedureVersions } from './master';
 import { sites } from './plant';
@@ -284,5 +286,61 @@ export const deviationDispositions = pgTable(
 			'deviation_dispositions_decision',
 			sql`${t.decision} in ('accepted', 'corrected', 'capa')`
 		)
+	]
+);
+
+/**
+ * The released maintenance record (7/10): the PDF rendered once after the release commits (from
+ * the outbox), stored in S3 under its SHA-256, its hash audited. One per work order; later prints
+ * are copies.
+ */
+export const releasedRecords = pgTable(
+	'released_records',
+	{
+		id: uuid('id').primaryKey(),
+		workOrderId: uuid('work_order_id')
+			.notNull()
+			.unique()
+			.references(() => workOrders.id),
+		sha256: text('sha256').notNull(),
+		size: integer('size').notNull(),
+		/** The record's content hash printed in it, and the chain head it names. */
+		recordHash: text('record_hash').notNull(),
+		chainSeq: bigint('chain_seq', { mode: 'number' }).notNull(),
+		...recorded()
+	},
+	(t) => [
+		check(
+			'released_records_hashes',
+			sql`${t.sha256} ~ '^[0-9a-f]{64}$' and ${t.recordHash} ~ '^[0-9a-f]{64}$'`
+		),
+		check('released_records_size', sql`${t.size} > 0`)
+	]
+);
+
+/**
+ * Every PDF of a record that left the server (7/10): which record content (hash) it carried and
+ * the chain head it named, so that the verification page can find the record from the hash or
+ * QR code on paper. Append-only; not part of the audit chain (printing changes no record).
+ */
+export const recordPrints = pgTable(
+	'record_prints',
+	{
+		id: uuid('id').primaryKey(),
+		workOrderId: uuid('work_order_id')
+			.notNull()
+			.references(() => workOrders.id),
+		recordHash: text('record_hash').notNull(),
+		chainSeq: bigint('chain_seq', { mode: 'number' }).notNull(),
+		chainHash: text('chain_hash').notNull(),
+		/** 'working' (before release), 'released' (the stored original) or 'copy' (after it). */
+		kind: text('kind').notNull(),
+		printedBy: uuid('printed_by').references(() => accounts.id),
+		printedByName: text('printed_by_name').notNull(),
+		printedAt: timestamp('printed_at', { withTimezone: true, precision: 3 }).notNull().defaultNow()
+	},
+	(t) => [
+		index('record_prints_hash').on(t.recordHash),
+		check('record_prints_kind', sql`${t.kind} in ('working', 'released', 'copy')`)
 	]
 );

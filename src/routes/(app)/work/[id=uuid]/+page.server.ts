@@ -40,6 +40,7 @@ export const load: PageServerLoad = async (event) => {
 		plan: found.plan,
 		plans: found.plans,
 		status: found.status,
+		released: found.released,
 		content: found.content,
 		equipment: found.equipment,
 		assignees: found.assignees,
