@@ -13,7 +13,6 @@ import { attemptSignIn } from '../../src/lib/server/auth/sign-in';
 import type { User } from '../../src/lib/server/auth/guard';
 import { db } from '../../src/lib/server/db/index';
 import { DEMO_PASSWORD } from '../../src/lib/server/db/seed';
-import { outbox } from '../../src/lib/server/db/schema/index';
 import * as equipment from '../../src/lib/server/equipment';
 import { appOrigin } from '../../src/lib/server/notify';
 import { backoffSeconds, drainOutbox, enqueue } from '../../src/lib/server/outbox';
