@@ -72,6 +72,8 @@ export default defineConfig({
 			// tested against the database in tests/integration/sign-in.spec.ts.
 			AUTH_DELAY_FREE_PER_USERNAME: '5',
 			BODY_SIZE_LIMIT: '16M',
+			// The outbox worker looks for work every second (5 s by default) besides after each commit.
+			OUTBOX_INTERVAL_MS: '1000',
 			AUTH_DELAY_FREE_PER_ADDRESS: '1000'
 		}
 	}

@@ -1,4 +1,7 @@
 import { createHash } from 'node:crypto';
+import { existsSync, readdirSync, readFileSync } from 'node:fs';
+import { join } from 'node:path';
+import { simpleParser } from 'mailparser';
 import sharp from 'sharp';
 import { expect, test, type Locator, type Page } from '@playwright/test';
 import { DEMO_PASSWORD, expectNoHorizontalScroll, shot, signedInPage } from './helpers';
@@ -457,6 +460,112 @@ test('Quality reviews the trail, dispositions the deviation and releases: In ser
 
 	const verify = await page.request.get('/api/v1/audit/verify');
 	expect(await verify.json()).toMatchObject({ ok: true, firstBadSeq: null });
+	await page.context().close();
+});
+
+/** The messages the SMTP fake of this run kept (one .eml each), parsed, with the envelope recipient. */
+async function mailsAt(folder: string) {
+	const files = existsSync(folder) ? readdirSync(folder).filter((f) => f.endsWith('.eml')) : [];
+	return Promise.all(
+		files.map(async (f) => {
+			const raw = readFileSync(join(folder, f));
+			const parsed = await simpleParser(raw);
+			return {
+				rcpt: /^X-Fake-Rcpt-To: (.*)$/m.exec(raw.toString('utf8'))![1]!.trim(),
+				subject: parsed.subject ?? '',
+				text: parsed.text ?? '',
+				html: String(parsed.html)
+			};
+		})
+	);
+}
+
+test('the journey’s e-mails arrive with the right recipients and links; the released record is stored and a print verifies', async ({
+	browser,
+	baseURL
+}) => {
+	test.setTimeout(90_000);
+	const folder = process.env.COUNTERSIGN_MAIL_FOLDER!;
+	expect(folder, 'scripts/test.js passes the SMTP fake’s folder').toBeTruthy();
+	const id = workUrl.split('/').at(-1)!;
+	const page = await signedInPage(browser, 'quality');
+	await page.goto(workUrl);
+	const number = (await page.getByRole('heading', { level: 1 }).textContent())!.match(
+		/WO-\d{4}-\d{4}/
+	)![0];
+	const about = async () => (await mailsAt(folder)).filter((m) => m.subject.includes(number));
+	// The server's outbox worker sends after each commit; wait until the last of them is there.
+	await expect
+		.poll(async () => (await about()).some((m) => m.subject.includes('waits for QA release')), {
+			timeout: 30_000
+		})
+		.toBe(true);
+	const mails = await about();
+	const to = (re: RegExp) => mails.filter((m) => re.test(m.subject)).map((m) => m.rcpt);
+	// Steps 1, 7 and 11 need a second person: every qualified technician but tech1 is told, tech2 among them.
+	for (const n of [1, 7, 11]) {
+		const rcpts = to(
+			new RegExp(`^Step ${n} of ${number} \\(${TAG}\\) waits for your verification$`)
+		);
+		expect(rcpts, `step ${n}`).toContain('tech2@ostmere.example');
+		expect(rcpts, `step ${n}`).not.toContain('tech1@ostmere.example');
+	}
+	expect(to(/^Deviation DEV-\d{4}-\d{4} on /)).toEqual(['quality@ostmere.example']);
+	expect(to(/waits for QA release$/)).toEqual(['quality@ostmere.example']);
+	const step1 = mails.find(
+		(m) => m.subject.startsWith('Step 1 of') && m.rcpt === 'tech2@ostmere.example'
+	)!;
+	const link = `${baseURL}/work/${id}/steps/isolate`;
+	expect(step1.text).toContain(`Open the step: ${link}`);
+	expect(step1.html).toContain(`href="${link}"`);
+	// The link opens the step for the verifier.
+	const tech2 = await signedInPage(browser, 'tech2');
+	await tech2.goto(link);
+	await expect(tech2.getByRole('heading', { level: 1, name: /^1\./ })).toBeVisible();
+	await tech2.context().close();
+
+	// The released record: stored by the outbox after the release committed, served with its hash.
+	await expect
+		.poll(
+			async () => {
+				await page.reload();
+				return page.getByRole('link', { name: 'The released record (PDF)' }).count();
+			},
+			{ timeout: 30_000 }
+		)
+		.toBe(1);
+	const original = await page.request.get(`/work/${id}/released.pdf`);
+	expect(original.status()).toBe(200);
+	const body = await original.body();
+	expect(createHash('sha256').update(body).digest('hex')).toBe(
+		original.headers()['x-content-sha256']
+	);
+	const copy = await page.request.get(`/work/${id}/record.pdf`);
+	expect(copy.headers()['x-print-kind']).toBe('copy');
+	const hash = copy.headers()['x-record-hash']!;
+
+	// The verification page, as the QR code opens it, then as typed.
+	await page.goto(`/verify?record=${hash}`);
+	await expect(
+		page.getByRole('heading', { name: '✓ The print matches the record and the trail' })
+	).toBeVisible();
+	await expect(page.getByText('the released original', { exact: false }).first()).toBeVisible();
+	await shot(page, 'verify-match');
+	await page.goto('/verify');
+	await page.getByLabel('Record hash').fill(`${hash.slice(0, 30)}  ${hash.slice(30, 63)}`);
+	await page.getByLabel('Record hash').press('Enter');
+	await expect(page.getByRole('alert')).toHaveText(
+		'A record hash has 64 characters; this one has 63. Check for a missing or extra character.'
+	);
+	await expect(page.getByLabel('Record hash')).toHaveAttribute('aria-invalid', 'true');
+	await page.getByLabel('Record hash').fill('f'.repeat(64));
+	await page.getByRole('button', { name: 'Verify' }).click();
+	await expect(
+		page.getByRole('heading', { name: '✗ No record was printed with this hash' })
+	).toBeVisible();
+	await page.setViewportSize({ width: 820, height: 1180 });
+	await expectNoHorizontalScroll(page);
+	await shot(page, 'verify-unknown-tablet');
 	await page.context().close();
 });
 
