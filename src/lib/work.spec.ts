@@ -608,6 +608,43 @@ describe('stepSignedContent: what a Performed or Verified signature binds to', (
 		);
 		expect(stepSignedContent(wo, measure, 3, [...before, same])).not.toEqual(a);
 	});
+
+	it('binds the step’s own photos by hash (voided ones marked); a step without any hashes as before', () => {
+		const photo = (
+			id: string,
+			more: Partial<NonNullable<Parameters<typeof stepSignedContent>[4]>[number]> = {}
+		) => ({
+			id,
+			stepKey: 'measure',
+			fieldKey: null,
+			deviationId: null,
+			sha256: id.repeat(64).slice(0, 64),
+			voidId: null,
+			...more
+		});
+		const plain = stepSignedContent(wo, measure, 3, rows());
+		expect(stepSignedContent(wo, measure, 3, rows(), [])).toEqual(plain);
+		expect(plain.content).not.toHaveProperty('photos');
+		// A photo field's photo is an entry, a deviation's belongs to the deviation, another step's to it.
+		expect(
+			stepSignedContent(wo, measure, 3, rows(), [
+				photo('a', { fieldKey: 'seat-photo' }),
+				photo('b', { deviationId: 'dev-1' }),
+				photo('c', { stepKey: 'other' })
+			])
+		).toEqual(plain);
+		const withTwo = stepSignedContent(wo, measure, 3, rows(), [
+			photo('e'),
+			photo('d', { voidId: 'v-1' })
+		]);
+		expect(withTwo.content.photos).toEqual([
+			{ evidenceId: 'd', sha256: 'd'.repeat(64), voided: true },
+			{ evidenceId: 'e', sha256: 'e'.repeat(64), voided: false }
+		]);
+		expect(
+			stepSignedContent(wo, measure, 3, rows(), [photo('d', { voidId: 'v-1' }), photo('e')])
+		).toEqual(withTwo);
+	});
 });
 
 describe('workOrderSignedContent: Executed and Released', () => {

@@ -536,12 +536,23 @@ export function stepSignedContent(
 	wo: WorkOrderIdentity,
 	step: ProcedureStep,
 	position: number,
-	entries: readonly EntryRow[]
+	entries: readonly EntryRow[],
+	photos: readonly Pick<
+		EvidenceRow,
+		'id' | 'stepKey' | 'fieldKey' | 'deviationId' | 'sha256' | 'voidId'
+	>[] = []
 ) {
+	// The step's own photos (not a photo field's: that is an entry; not a deviation's) bind to the
+	// signature too, by hash. Only when there are any, so that a step without them hashes as before.
+	const attached = photos
+		.filter((p) => p.stepKey === step.key && !p.fieldKey && !p.deviationId)
+		.map((p) => ({ evidenceId: p.id, sha256: p.sha256, voided: Boolean(p.voidId) }))
+		.sort((a, b) => a.evidenceId.localeCompare(b.evidenceId));
 	return {
 		type: STEP_RECORD,
 		id: `${wo.id}:${step.key}`,
 		content: {
+			...(attached.length ? { photos: attached } : {}),
 			workOrder: wo.number,
 			equipment: wo.equipmentTag,
 			procedure: { code: wo.procedureCode, version: wo.procedureVersion },

@@ -1,4 +1,7 @@
 import { expect, type Browser, type Page } from '@playwright/test';
+import { existsSync, readdirSync, readFileSync } from 'node:fs';
+import { join } from 'node:path';
+import { simpleParser } from 'mailparser';
 import postgres from 'postgres';
 
 /** The demo password (README, "Demo accounts"); demo data only. */
@@ -81,4 +84,25 @@ export async function readyAccount(
 	await expect(page).toHaveURL(/\/login\?changed=1/);
 	await page.context().close();
 	return password;
+}
+
+/** The messages the SMTP fake of this run kept (one .eml each), parsed, with the envelope recipient. */
+export async function mailsAt(folder = process.env.COUNTERSIGN_MAIL_FOLDER ?? '') {
+	if (!folder)
+		throw new Error(
+			'COUNTERSIGN_MAIL_FOLDER is not set: scripts/test.js passes the SMTP fake’s folder'
+		);
+	const files = existsSync(folder) ? readdirSync(folder).filter((f) => f.endsWith('.eml')) : [];
+	return Promise.all(
+		files.map(async (f) => {
+			const raw = readFileSync(join(folder, f));
+			const parsed = await simpleParser(raw);
+			return {
+				rcpt: /^X-Fake-Rcpt-To: (.*)$/m.exec(raw.toString('utf8'))![1]!.trim(),
+				subject: parsed.subject ?? '',
+				text: parsed.text ?? '',
+				html: String(parsed.html)
+			};
+		})
+	);
 }

@@ -1,6 +1,7 @@
 import { expect, test } from '@playwright/test';
 import {
 	createAccountAsAdmin,
+	mailsAt,
 	ownerSql,
 	readyAccount,
 	shot,
@@ -200,6 +201,16 @@ test('five failed sign-ins lock the account; an administrator unlocks it with a 
 	await signIn(page, username, password); // the right password no longer helps
 	await expect(page.getByRole('alert')).toContainText('This account is locked');
 	await shot(page, 'login-locked');
+	// The Administrators are told by e-mail (ES7), with a link to the account.
+	const subject = `Account ${username} is locked after failed passwords`;
+	await expect
+		.poll(async () => (await mailsAt()).filter((m) => m.subject === subject).map((m) => m.rcpt), {
+			timeout: 20_000
+		})
+		.toContain('admin@ostmere.example');
+	const told = (await mailsAt()).find((m) => m.subject === subject)!;
+	expect(told.text).toMatch(/5 consecutive failed passwords/);
+	expect(told.text).toMatch(new RegExp(`Open the account: http://[^ ]+/people/[0-9a-f-]{36}`));
 
 	await admin.goto('/');
 	await expect(admin.getByRole('region', { name: /Locked accounts/ })).toContainText(username);

@@ -1,10 +1,7 @@
 import { createHash } from 'node:crypto';
-import { existsSync, readdirSync, readFileSync } from 'node:fs';
-import { join } from 'node:path';
-import { simpleParser } from 'mailparser';
 import sharp from 'sharp';
 import { expect, test, type Locator, type Page } from '@playwright/test';
-import { DEMO_PASSWORD, expectNoHorizontalScroll, shot, signedInPage } from './helpers';
+import { DEMO_PASSWORD, expectNoHorizontalScroll, mailsAt, shot, signedInPage } from './helpers';
 
 // The whole diaphragm-replacement job in the browser (issue 5/10 "Done when"): a Planner plans
 // it; tech1 starts it and executes every step (one value first entered wrong and corrected with
@@ -405,6 +402,13 @@ test('Quality reviews the trail, dispositions the deviation and releases: In ser
 	// The correction is highlighted in the record and in its trail.
 	await expect(page.getByText('Corrected: Typing error at entry')).toBeVisible();
 	await expect(page.getByText('changed after first entry').first()).toBeVisible();
+	// The photo of step 2 is in the record as a thumbnail (served through the evidence route).
+	const photo = page.getByRole('list', { name: 'Photos of step 2' }).getByRole('img').first();
+	await photo.scrollIntoViewIfNeeded();
+	await expect(photo).toBeVisible();
+	await expect
+		.poll(() => photo.evaluate((img: HTMLImageElement) => img.complete && img.naturalWidth))
+		.toBeGreaterThan(0);
 	await shot(page, 'work-quality-review');
 
 	await sign(
@@ -463,37 +467,18 @@ test('Quality reviews the trail, dispositions the deviation and releases: In ser
 	await page.context().close();
 });
 
-/** The messages the SMTP fake of this run kept (one .eml each), parsed, with the envelope recipient. */
-async function mailsAt(folder: string) {
-	const files = existsSync(folder) ? readdirSync(folder).filter((f) => f.endsWith('.eml')) : [];
-	return Promise.all(
-		files.map(async (f) => {
-			const raw = readFileSync(join(folder, f));
-			const parsed = await simpleParser(raw);
-			return {
-				rcpt: /^X-Fake-Rcpt-To: (.*)$/m.exec(raw.toString('utf8'))![1]!.trim(),
-				subject: parsed.subject ?? '',
-				text: parsed.text ?? '',
-				html: String(parsed.html)
-			};
-		})
-	);
-}
-
 test('the journey’s e-mails arrive with the right recipients and links; the released record is stored and a print verifies', async ({
 	browser,
 	baseURL
 }) => {
 	test.setTimeout(90_000);
-	const folder = process.env.COUNTERSIGN_MAIL_FOLDER!;
-	expect(folder, 'scripts/test.js passes the SMTP fake’s folder').toBeTruthy();
 	const id = workUrl.split('/').at(-1)!;
 	const page = await signedInPage(browser, 'quality');
 	await page.goto(workUrl);
 	const number = (await page.getByRole('heading', { level: 1 }).textContent())!.match(
 		/WO-\d{4}-\d{4}/
 	)![0];
-	const about = async () => (await mailsAt(folder)).filter((m) => m.subject.includes(number));
+	const about = async () => (await mailsAt()).filter((m) => m.subject.includes(number));
 	// The server's outbox worker sends after each commit; wait until the last of them is there.
 	await expect
 		.poll(async () => (await about()).some((m) => m.subject.includes('waits for QA release')), {

@@ -16,6 +16,8 @@ import {
 } from '../../src/lib/server/evidence';
 import * as procedures from '../../src/lib/server/procedures';
 import { personOf } from '../../src/lib/server/records';
+import { contentHash } from '../../src/lib/server/signatures/index';
+import { STEP_RECORD, stepSignedContent } from '../../src/lib/work';
 import { bucket, s3 } from '../../src/lib/server/storage';
 import * as work from '../../src/lib/server/work-orders';
 import type { appDatabase } from './helpers/app-database';
@@ -244,6 +246,20 @@ describe('a photo attached to a step, and to a photo field', () => {
 		const signed = await refusal(attach(jpeg));
 		expect(signed.status).toBe(409);
 		expect(signed.message).toMatch(/This step is signed/);
+		// The Performed signature binds the step's own photo (voided, by hash) and still matches.
+		const v = await view(id);
+		const performed = v.steps.find((x) => x.step.key === 'as-found')!.status.performed!;
+		const sig = v.signatures.find((x) => x.id === performed.signatureId)!;
+		expect(sig.matches).toBe(true);
+		const content = stepSignedContent(
+			v.identity,
+			v.steps.find((x) => x.step.key === 'as-found')!.step,
+			2,
+			v.entries,
+			v.photos
+		).content;
+		expect(content.photos).toEqual([{ evidenceId, sha256: sha256Hex(jpeg), voided: true }]);
+		expect(contentHash({ type: STEP_RECORD, id: `${id}:as-found`, content })).toBe(sig.contentHash);
 	});
 
 	it('bytes changed in the store behind the app are not served (hash checked on the way out)', async () => {

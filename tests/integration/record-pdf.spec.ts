@@ -8,6 +8,7 @@ import { seedDemoWork } from '../../src/lib/server/db/demo/work';
 import { DEMO_PASSWORD, seedDemoAccounts, seedDemoPlant } from '../../src/lib/server/db/seed';
 import { recordPdf } from '../../src/lib/server/pdf/index';
 import { pdfText } from '../../src/lib/server/pdf/record';
+import { attributeLabels, attributeText, orderedAttributes } from '../../src/lib/equipment';
 import { currentSite } from '../../src/lib/server/plant';
 import { signatureMeaningLabels, type SignatureMeaning } from '../../src/lib/signature-meanings';
 import { formatInZone } from '../../src/lib/time';
@@ -62,6 +63,14 @@ describe('the PDF of the released demo work order', () => {
 		expect(n).toBeGreaterThan(20);
 		// No glyph is missing: nothing drew as "?".
 		expect(text.replace('/verify?record=', '/verify')).not.toContain('?');
+	});
+
+	it('names the equipment and each item of its data by its label, with the value as stored', () => {
+		expect(text).toContain(`Tag ${found.equipment.tag}`);
+		for (const [k, v] of orderedAttributes(found.equipment.attributes)) {
+			expect(attributeLabels[k], k).toBeDefined();
+			expect(text).toContain(flat(pdfText(`${attributeLabels[k]} ${attributeText(k, v)}`)));
+		}
 	});
 
 	it('shows the corrected value as replaced, with the reason', () => {

@@ -404,7 +404,7 @@ export function recordContentHash(s: WorkOrderState) {
 
 function stepRecord(s: WorkOrderState, stepKey: string): SignedRecord {
 	const found = s.steps.find((x) => x.step.key === stepKey)!;
-	return stepSignedContent(s.identity, found.step, found.position, s.entries);
+	return stepSignedContent(s.identity, found.step, found.position, s.entries, s.photos);
 }
 
 /** The audit events of a work order (its own, its steps' and its deviations'), in order: what a trail review covers. */

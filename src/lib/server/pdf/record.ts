@@ -3,7 +3,13 @@ import { readFileSync } from 'node:fs';
 import { createRequire } from 'node:module';
 import { PDFDocument, rgb, type PDFFont, type PDFImage, type PDFPage } from 'pdf-lib';
 import QRCode from 'qrcode';
-import { equipmentClassLabels, type EquipmentClass } from '$lib/equipment';
+import {
+	attributeLabels,
+	attributeText,
+	equipmentClassLabels,
+	orderedAttributes,
+	type EquipmentClass
+} from '$lib/equipment';
 import { hazardLabels, limitsText, type Hazard } from '$lib/schemas/procedure';
 import { signatureMeaningLabels, type SignatureMeaning } from '$lib/signature-meanings';
 import { formatInZone } from '$lib/time';
@@ -330,8 +336,8 @@ export async function renderRecordPdf(r: RecordInput, o: RenderOptions): Promise
 		'Class',
 		equipmentClassLabels[r.equipment.equipmentClass as EquipmentClass] ?? r.equipment.equipmentClass
 	);
-	for (const [k, v] of Object.entries(r.equipment.attributes))
-		L.pair(k.replace(/([A-Z])/g, ' $1').toLowerCase(), v === null ? '—' : String(v));
+	for (const [k, v] of orderedAttributes(r.equipment.attributes))
+		L.pair(attributeLabels[k] ?? k, attributeText(k, v));
 
 	L.heading('Procedure and work order');
 	L.pair('Procedure', `${r.wo.procedureCode} version ${r.wo.procedureVersion}: ${r.content.title}`);

@@ -41,6 +41,7 @@ export const load: PageServerLoad = async (event) => {
 		plans: found.plans,
 		status: found.status,
 		released: found.released,
+		photos: found.photos,
 		content: found.content,
 		equipment: found.equipment,
 		assignees: found.assignees,
