@@ -1,10 +1,10 @@
 import { and, eq, inArray, isNull, sql } from 'drizzle-orm';
 import { env } from '$env/dynamic/private';
-import { qualifiedOn } from '$lib/fitness';
 import type { Role } from '$lib/roles';
 import type { Transaction } from './db/index';
-import { accounts, qualifications, qualificationWithdrawals } from './db/schema/index';
+import { accounts } from './db/schema/index';
 import { enqueue, type MailMessage } from './outbox';
+import { qualifiedAmong } from './qualifications';
 
 /**
  * The e-mails of the workflow (7/10), each an outbox row written in the transaction of the event
@@ -98,33 +98,13 @@ export async function notifyVerificationWaiting(
 ) {
 	const technicians = (await holders(tx, ['technician'])).filter((p) => !exclude.includes(p.id));
 	if (!technicians.length) return 0;
-	const records = await tx
-		.select({
-			accountId: qualifications.accountId,
-			trainedOn: qualifications.trainedOn,
-			expiresOn: qualifications.expiresOn,
-			withdrawnOn: qualificationWithdrawals.effectiveOn
-		})
-		.from(qualifications)
-		.leftJoin(
-			qualificationWithdrawals,
-			eq(qualificationWithdrawals.qualificationId, qualifications.id)
-		)
-		.where(
-			and(
-				eq(qualifications.procedureId, w.procedureId),
-				inArray(
-					qualifications.accountId,
-					technicians.map((t) => t.id)
-				)
-			)
-		);
-	const qualified = technicians.filter((t) =>
-		qualifiedOn(
-			records.filter((r) => r.accountId === t.id),
-			day
-		)
+	const ids = await qualifiedAmong(
+		tx,
+		technicians.map((t) => t.id),
+		w.procedureId,
+		day
 	);
+	const qualified = technicians.filter((t) => ids.includes(t.id));
 	return send(tx, qualified, causeSeq, (p) =>
 		composeMail(p, {
 			subject: `Step ${step.position} of ${w.number} (${w.equipmentTag}) waits for your verification`,

@@ -1,9 +1,9 @@
-import { and, asc, desc, eq } from 'drizzle-orm';
+import { and, asc, desc, eq, inArray } from 'drizzle-orm';
 import { randomUUID } from 'node:crypto';
 import { addDays, covers, qualifiedOn, siteToday } from '$lib/fitness';
 import type { z } from 'zod';
 import type { qualificationSchema } from '$lib/schemas/master';
-import { db } from './db/index';
+import { db, type Transaction } from './db/index';
 import { accounts, procedures, qualifications, qualificationWithdrawals } from './db/schema/index';
 import { currentSite } from './plant';
 import {
@@ -24,8 +24,20 @@ import {
 export type Qualification = z.infer<typeof qualificationSchema>;
 
 export async function isQualified(accountId: string, procedureId: string, day: string) {
-	const rows = await db()
+	return (await qualifiedAmong(db(), [accountId], procedureId, day)).length > 0;
+}
+
+/** Those of `accountIds` qualified on the procedure on `day` (the training records and their withdrawals). */
+export async function qualifiedAmong(
+	tx: Transaction,
+	accountIds: string[],
+	procedureId: string,
+	day: string
+) {
+	if (!accountIds.length) return [];
+	const rows = await tx
 		.select({
+			accountId: qualifications.accountId,
 			trainedOn: qualifications.trainedOn,
 			expiresOn: qualifications.expiresOn,
 			withdrawnOn: qualificationWithdrawals.effectiveOn
@@ -36,9 +48,17 @@ export async function isQualified(accountId: string, procedureId: string, day: s
 			eq(qualificationWithdrawals.qualificationId, qualifications.id)
 		)
 		.where(
-			and(eq(qualifications.accountId, accountId), eq(qualifications.procedureId, procedureId))
+			and(
+				inArray(qualifications.accountId, accountIds),
+				eq(qualifications.procedureId, procedureId)
+			)
 		);
-	return qualifiedOn(rows, day);
+	return accountIds.filter((id) =>
+		qualifiedOn(
+			rows.filter((r) => r.accountId === id),
+			day
+		)
+	);
 }
 
 /** Training records, newest first, with whether each person is qualified on `day` and lapses within 30 days. */
