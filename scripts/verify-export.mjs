@@ -29,6 +29,131 @@ export function canonical(value) {
 	return `{${keys.map((k) => `${canonical(k)}:${canonical(object[k])}`).join(',')}}`;
 }
 
+// ── Merkle trees over the event hashes (RFC 9162 §2.1, the same as RFC 6962 §2.1) ─────────────
+// A leaf is SHA-256(0x00 ‖ data), a node SHA-256(0x01 ‖ left ‖ right), the empty tree SHA-256("").
+// For the audit trail the data of leaf i is the 32 raw bytes of event i+1's hash.
+
+/** @param {...Uint8Array} parts */
+const sha256 = (...parts) => {
+	const h = createHash('sha256');
+	for (const p of parts) h.update(p);
+	return new Uint8Array(h.digest());
+};
+const LEAF = Uint8Array.of(0);
+const NODE = Uint8Array.of(1);
+
+/** @param {Uint8Array} data */
+export const leafHash = (data) => sha256(LEAF, data);
+/** @param {Uint8Array} left @param {Uint8Array} right */
+export const nodeHash = (left, right) => sha256(NODE, left, right);
+
+/** The largest power of two smaller than n (n > 1). @param {number} n */
+function split(n) {
+	let k = 1;
+	while (k * 2 < n) k *= 2;
+	return k;
+}
+
+/**
+ * MTH(D[lo:hi]) over leaf hashes.
+ * @param {readonly Uint8Array[]} leaves leaf hashes
+ * @returns {Uint8Array}
+ */
+export function treeHash(leaves, lo = 0, hi = leaves.length) {
+	const n = hi - lo;
+	if (n === 0) return sha256();
+	if (n === 1) return /** @type {Uint8Array} */ (leaves[lo]);
+	const k = split(n);
+	return nodeHash(treeHash(leaves, lo, lo + k), treeHash(leaves, lo + k, hi));
+}
+
+/**
+ * PATH(m, D[n]): the inclusion proof of leaf m in the tree of the first n leaves.
+ * @param {readonly Uint8Array[]} leaves @param {number} m @param {number} n
+ * @returns {Uint8Array[]}
+ */
+export function inclusionProof(leaves, m, n = leaves.length, lo = 0) {
+	if (m < 0 || m >= n || lo + n > leaves.length)
+		throw new RangeError('leaf index outside the tree');
+	if (n === 1) return [];
+	const k = split(n);
+	return m < k
+		? [...inclusionProof(leaves, m, k, lo), treeHash(leaves, lo + k, lo + n)]
+		: [...inclusionProof(leaves, m - k, n - k, lo + k), treeHash(leaves, lo, lo + k)];
+}
+
+/**
+ * PROOF(m, D[n]): the consistency proof between the trees of the first m and the first n leaves.
+ * @param {readonly Uint8Array[]} leaves @param {number} m @param {number} n
+ * @returns {Uint8Array[]}
+ */
+export function consistencyProof(leaves, m, n = leaves.length) {
+	if (m < 0 || m > n || n > leaves.length) throw new RangeError('tree sizes outside the log');
+	if (m === 0 || m === n) return [];
+	/** @param {number} m @param {number} lo @param {number} n @param {boolean} whole @returns {Uint8Array[]} */
+	const sub = (m, lo, n, whole) => {
+		if (m === n) return whole ? [] : [treeHash(leaves, lo, lo + n)];
+		const k = split(n);
+		return m <= k
+			? [...sub(m, lo, k, whole), treeHash(leaves, lo + k, lo + n)]
+			: [...sub(m - k, lo + k, n - k, false), treeHash(leaves, lo, lo + k)];
+	};
+	return sub(m, 0, n, true);
+}
+
+/** @param {Uint8Array} a @param {Uint8Array} b */
+const same = (a, b) => a.length === b.length && a.every((x, i) => x === b[i]);
+
+/**
+ * Verifies an inclusion proof (RFC 9162 §2.1.3.2).
+ * @param {number} index @param {number} size @param {Uint8Array} leaf the leaf hash
+ * @param {readonly Uint8Array[]} path @param {Uint8Array} root
+ */
+export function verifyInclusion(index, size, leaf, path, root) {
+	if (!(index >= 0 && index < size)) return false;
+	let fn = index;
+	let sn = size - 1;
+	let r = leaf;
+	for (const p of path) {
+		if (sn === 0) return false;
+		if (fn % 2 === 1 || fn === sn) {
+			r = nodeHash(p, r);
+			if (fn % 2 === 0) while (fn % 2 === 0 && fn !== 0) [fn, sn] = [fn >>> 1, sn >>> 1];
+		} else r = nodeHash(r, p);
+		[fn, sn] = [fn >>> 1, sn >>> 1];
+	}
+	return sn === 0 && same(r, root);
+}
+
+/**
+ * Verifies a consistency proof between a tree of `first` leaves and one of `second` (RFC 9162
+ * §2.1.4.2). Equal sizes are consistent when the roots are equal; an empty first tree always is.
+ * @param {number} first @param {number} second @param {Uint8Array} firstRoot @param {Uint8Array} secondRoot
+ * @param {readonly Uint8Array[]} proof
+ */
+export function verifyConsistency(first, second, firstRoot, secondRoot, proof) {
+	if (!(first >= 0 && first <= second)) return false;
+	if (first === second) return proof.length === 0 && same(firstRoot, secondRoot);
+	if (first === 0) return proof.length === 0;
+	if (proof.length === 0) return false;
+	const path = (first & (first - 1)) === 0 ? [firstRoot, ...proof] : [...proof];
+	let fn = first - 1;
+	let sn = second - 1;
+	while (fn % 2 === 1) [fn, sn] = [fn >>> 1, sn >>> 1];
+	let fr = /** @type {Uint8Array} */ (path[0]);
+	let sr = fr;
+	for (const c of path.slice(1)) {
+		if (sn === 0) return false;
+		if (fn % 2 === 1 || fn === sn) {
+			fr = nodeHash(c, fr);
+			sr = nodeHash(c, sr);
+			if (fn % 2 === 0) while (fn % 2 === 0 && fn !== 0) [fn, sn] = [fn >>> 1, sn >>> 1];
+		} else sr = nodeHash(sr, c);
+		[fn, sn] = [fn >>> 1, sn >>> 1];
+	}
+	return sn === 0 && same(fr, firstRoot) && same(sr, secondRoot);
+}
+
 /** @param {string} file */
 async function main(file) {
 	const lines = createInterface({ input: createReadStream(file, 'utf8'), crlfDelay: Infinity });
