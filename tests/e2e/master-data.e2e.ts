@@ -83,6 +83,7 @@ test('a Planner registers a diaphragm valve, then changes it with a reason; both
 test('a Planner writes a draft with three typed steps; Quality approves it with a signature; a second draft is compared', async ({
 	browser
 }) => {
+	test.setTimeout(120_000); // a whole journey (55 s measured here): draft, three steps, approval, a second draft
 	const code = `MP-T${suffix()}`;
 	const planner = await signedInPage(browser, 'planner');
 	await planner.setViewportSize({ width: 1280, height: 900 });
