@@ -3,13 +3,18 @@
 // Node's built-ins and the file itself: recomputes every hash and every link.
 //
 //   node scripts/verify-export.mjs FILE
+//   node scripts/verify-export.mjs --inclusion PROOF.json [EXPORT]   an event is in a checkpoint
+//   node scripts/verify-export.mjs --consistency PROOF.json [EXPORT] a later checkpoint extends an earlier
 //
-// Exit 0: every line holds. Exit 1: the first bad line is named, with what is wrong.
+// The proofs are the JSON of GET /api/v1/audit/proof (RFC 9162 Merkle trees over the event hashes,
+// below); with EXPORT the checkpoints' roots are also recomputed from the exported events.
+// Exit 0: every line (or the proof) holds. Exit 1: the first bad line is named, with what is wrong.
 // Each line is one event: its fields plus "prev_hash" and "hash" (hex). The hash is
 //   SHA-256( prev_hash as 32 raw bytes ‖ UTF-8 of the RFC 8785 canonical JSON of the other fields )
 // and the first event's prev_hash is 32 zero bytes; seq counts 1, 2, 3, … without gaps.
 import { createHash } from 'node:crypto';
 import { createReadStream } from 'node:fs';
+import { readFile } from 'node:fs/promises';
 import { createInterface } from 'node:readline';
 
 /**
@@ -154,8 +159,13 @@ export function verifyConsistency(first, second, firstRoot, secondRoot, proof) {
 	return sn === 0 && same(fr, firstRoot) && same(sr, secondRoot);
 }
 
-/** @param {string} file */
-async function main(file) {
+/**
+ * Checks an export line by line; exits 1 at the first bad line. Returns the events' hashes.
+ * @param {string} file
+ */
+async function checkExport(file) {
+	/** @type {string[]} */
+	const hashes = [];
 	const lines = createInterface({ input: createReadStream(file, 'utf8'), crlfDelay: Infinity });
 	let n = 0;
 	let prev = '00'.repeat(32);
@@ -190,18 +200,117 @@ async function main(file) {
 		if (computed !== hash)
 			bad(`hash mismatch (seq ${fields.seq}): the fields do not give the stated hash`);
 		prev = hash;
+		hashes.push(hash);
 	}
 	if (n === 0) {
 		console.error('the file holds no events');
 		process.exit(1);
 	}
-	console.log(`ok: ${n} events, every hash and link holds; last hash ${prev}`);
+	return hashes;
+}
+
+/** @param {string} file */
+async function main(file) {
+	const hashes = await checkExport(file);
+	console.log(`ok: ${hashes.length} events, every hash and link holds; last hash ${hashes.at(-1)}`);
+}
+
+const isHash = (/** @type {unknown} */ h) => typeof h === 'string' && /^[0-9a-f]{64}$/.test(h);
+const fromHex = (/** @type {string} */ h) => new Uint8Array(Buffer.from(h, 'hex'));
+
+/**
+ * The root of the first `size` events of a checked export, or exit 1 if the export is shorter.
+ * @param {string[]} hashes @param {number} size
+ */
+function rootFromExport(hashes, size) {
+	if (hashes.length < size) {
+		console.error(`the export holds ${hashes.length} events, fewer than the checkpoint's ${size}`);
+		process.exit(1);
+	}
+	return Buffer.from(treeHash(hashes.slice(0, size).map((h) => leafHash(fromHex(h))))).toString(
+		'hex'
+	);
+}
+
+/**
+ * Checks an inclusion or consistency proof file, and against an export when one is given.
+ * @param {'inclusion' | 'consistency'} kind @param {string} file @param {string | undefined} exportFile
+ */
+async function proof(kind, file, exportFile) {
+	/** @param {string} why @returns {never} */
+	const bad = (why) => {
+		console.error(`${kind} proof: ${why}`);
+		process.exit(1);
+	};
+	/** @type {any} */
+	let p;
+	try {
+		p = JSON.parse(await readFile(file, 'utf8'));
+	} catch {
+		bad('the file is not JSON');
+	}
+	if (p?.kind !== kind) bad(`the file is not a ${kind} proof (kind is ${JSON.stringify(p?.kind)})`);
+	if (!Array.isArray(p.path) || !p.path.every(isHash))
+		bad('path must be a list of hex SHA-256 hashes');
+	const path = p.path.map(fromHex);
+	const hashes = exportFile ? await checkExport(exportFile) : null;
+	if (kind === 'inclusion') {
+		const { seq, eventHash, treeSize, rootHash } = p;
+		if (
+			!Number.isSafeInteger(seq) ||
+			!Number.isSafeInteger(treeSize) ||
+			!isHash(eventHash) ||
+			!isHash(rootHash)
+		)
+			bad('seq, treeSize, eventHash and rootHash are needed');
+		if (hashes && hashes[seq - 1] !== eventHash) bad(`event ${seq} in the export has another hash`);
+		if (hashes && rootFromExport(hashes, treeSize) !== rootHash)
+			bad(`the export's first ${treeSize} events give another root than the checkpoint`);
+		if (!verifyInclusion(seq - 1, treeSize, leafHash(fromHex(eventHash)), path, fromHex(rootHash)))
+			bad(`event ${seq} is not proven in the checkpoint of ${treeSize} events`);
+		console.log(
+			`ok: event ${seq} (${eventHash}) is in the checkpoint of ${treeSize} events, root ${rootHash}`
+		);
+		return;
+	}
+	const { first, second } = p;
+	for (const c of [first, second])
+		if (!Number.isSafeInteger(c?.treeSize) || !isHash(c?.rootHash))
+			bad('first and second need treeSize and rootHash');
+	if (hashes)
+		for (const c of [first, second])
+			if (rootFromExport(hashes, c.treeSize) !== c.rootHash)
+				bad(`the export's first ${c.treeSize} events give another root than the checkpoint`);
+	if (
+		!verifyConsistency(
+			first.treeSize,
+			second.treeSize,
+			fromHex(first.rootHash),
+			fromHex(second.rootHash),
+			path
+		)
+	)
+		bad(`the checkpoint of ${second.treeSize} events does not extend the one of ${first.treeSize}`);
+	console.log(
+		`ok: the checkpoint of ${second.treeSize} events extends the one of ${first.treeSize}`
+	);
 }
 
 if (import.meta.url === `file://${process.argv[1]}`) {
-	if (!process.argv[2]) {
-		console.error('usage: node scripts/verify-export.mjs FILE');
-		process.exit(2);
+	const [first, second, third] = process.argv.slice(2);
+	if (first === '--inclusion' || first === '--consistency') {
+		if (!second) {
+			console.error(`usage: node scripts/verify-export.mjs ${first} PROOF.json [EXPORT]`);
+			process.exit(2);
+		}
+		await proof(first === '--inclusion' ? 'inclusion' : 'consistency', second, third);
+	} else {
+		if (!first) {
+			console.error(
+				'usage: node scripts/verify-export.mjs FILE | --inclusion PROOF.json [EXPORT] | --consistency PROOF.json [EXPORT]'
+			);
+			process.exit(2);
+		}
+		await main(first);
 	}
-	await main(process.argv[2]);
 }

@@ -5,6 +5,7 @@ import { handle as authHandle } from '$lib/server/auth/index';
 import { guard } from '$lib/server/auth/guard';
 import { closeDatabase } from '$lib/server/db/index';
 import { log } from '$lib/server/log';
+import { startCheckpointWorker, stopCheckpointWorker } from '$lib/server/audit/checkpoints';
 import { startOutboxWorker, stopOutboxWorker } from '$lib/server/outbox';
 import '$lib/server/pdf/index'; // registers the released-record job of the outbox
 import { env } from '$env/dynamic/private';
@@ -13,12 +14,17 @@ export const init: ServerInit = async () => {
 	// adapter-node emits this on SIGTERM/SIGINT once the HTTP server has closed: the open pool
 	// would otherwise keep the process alive.
 	process.once('sveltekit:shutdown', async (reason: string) => {
+		stopCheckpointWorker();
 		await stopOutboxWorker();
 		await closeDatabase();
 		log.info('server stopped', { reason });
 	});
 	// The outbox worker (7/10): e-mails and released records after their transactions commit.
-	if (env.OUTBOX_WORKER !== 'off') startOutboxWorker(Number(env.OUTBOX_INTERVAL_MS ?? 5000));
+	if (env.OUTBOX_WORKER !== 'off') {
+		startOutboxWorker(Number(env.OUTBOX_INTERVAL_MS ?? 5000));
+		// Audit checkpoints every 1,000 events (8/10), looked for once a minute.
+		startCheckpointWorker(Number(env.CHECKPOINT_INTERVAL_MS ?? 60_000));
+	}
 };
 
 const MAX_BODY = 1024 * 1024;

@@ -7,7 +7,9 @@ import { join } from 'node:path';
 import { simpleParser } from 'mailparser';
 import nodemailer from 'nodemailer';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { leafHash, verifyInclusion } from '../../scripts/verify-export.mjs';
 import { addDays } from '../../src/lib/fitness';
+import { inclusionOf } from '../../src/lib/server/audit/checkpoints';
 import { verifyChain } from '../../src/lib/server/audit/verify';
 import { attemptSignIn } from '../../src/lib/server/auth/sign-in';
 import type { User } from '../../src/lib/server/auth/guard';
@@ -380,6 +382,25 @@ describe('the e-mails of the diaphragm job (outbox rows in the transaction of th
 		};
 		const original = text(stored.bytes!, 'released.pdf');
 		expect(original).not.toMatch(/COPY|copy generated/);
+		// The release event's inclusion proof against the checkpoint made for it (8/10), printed and valid.
+		expect(stored.row.checkpointSize).toBeGreaterThan(0);
+		const releaseSeq = v.transitions.findLast((x) => x.kind === 'released')!.auditSeq;
+		const proof = (await inclusionOf(releaseSeq, stored.row.checkpointSize!))!;
+		const hexBytes = (h: string) => new Uint8Array(Buffer.from(h, 'hex'));
+		expect(
+			verifyInclusion(
+				releaseSeq - 1,
+				proof.treeSize,
+				leafHash(hexBytes(proof.eventHash)),
+				proof.path.map(hexBytes),
+				hexBytes(proof.rootHash)
+			)
+		).toBe(true);
+		const flatText = original.replace(/\s+/g, ' ');
+		expect(flatText).toContain(
+			`Checkpoint ${proof.treeSize} events, Merkle root ${proof.rootHash}`
+		);
+		for (const h of proof.path) expect(flatText).toContain(h);
 		expect(original).toContain(stored.row.recordHash.slice(0, 16));
 		const copy = (await recordPdf(id, { printedBy: people.inspector! }))!;
 		expect(copy.printKind).toBe('copy');

@@ -97,6 +97,9 @@ const paths = (): Record<string, string> => ({
 	'/logout': '/logout',
 	'/api/v1/health': '/api/v1/health',
 	'/api/v1/audit/verify': '/api/v1/audit/verify',
+	'/api/v1/audit/checkpoints': '/api/v1/audit/checkpoints',
+	// No checkpoint of 1 event in this database: 404 JSON to those allowed.
+	'/api/v1/audit/proof': '/api/v1/audit/proof?seq=1&treeSize=1',
 	'/api/v1/audit/export': '/api/v1/audit/export',
 	'/(app)/audit': '/audit',
 	'/api/[...path]': '/api/v1/no-such-thing'

@@ -1,5 +1,6 @@
 import { desc, eq, sql } from 'drizzle-orm';
 import { randomUUID } from 'node:crypto';
+import { checkpointNow, inclusionOf } from '../audit/checkpoints';
 import { db, type Transaction } from '../db/index';
 import { auditEvent, recordPrints, releasedRecords } from '../db/schema/index';
 import { sha256Hex, thumbKey } from '../evidence';
@@ -33,12 +34,23 @@ export async function releasedRecordOf(tx: Transaction, workOrderId: string) {
  * hash), the latest audit event, and the address of the record's verification page. A print made
  * after the released original is stored is marked as a copy on every page.
  */
-async function render(id: string, kind: PrintKind | 'auto', origin?: string) {
+async function render(
+	id: string,
+	kind: PrintKind | 'auto',
+	origin?: string,
+	checkpointSize?: number
+) {
 	const found = await getWorkOrder(id);
 	if (!found) return null;
 	const site = (await currentSite())!;
 	const released = await releasedRecordOf(db(), id);
 	const printKind: PrintKind = kind !== 'auto' ? kind : released ? 'copy' : 'working';
+	// A released record proves its release event against a checkpoint: the one made for it, and
+	// the same one again on every copy.
+	const releaseSeq = found.transitions.findLast((t) => t.kind === 'released')?.auditSeq;
+	const proofSize = checkpointSize ?? released?.checkpointSize ?? undefined;
+	const inclusion =
+		releaseSeq && proofSize ? ((await inclusionOf(releaseSeq, proofSize)) ?? undefined) : undefined;
 	const thumbs = new Map<string, Uint8Array>();
 	for (const p of found.photos) {
 		const bytes = await getBytes(thumbKey(p.thumbSha256)).catch(() => null);
@@ -59,10 +71,19 @@ async function render(id: string, kind: PrintKind | 'auto', origin?: string) {
 			chainHead,
 			verifyUrl: `${(origin ?? appOrigin()).replace(/\/$/, '')}/verify?record=${recordHash}`,
 			thumbs,
-			copy: printKind === 'copy'
+			copy: printKind === 'copy',
+			inclusion
 		}
 	);
-	return { bytes, number: found.wo.number, status: found.status, recordHash, chainHead, printKind };
+	return {
+		bytes,
+		number: found.wo.number,
+		status: found.status,
+		recordHash,
+		chainHead,
+		printKind,
+		checkpointSize: inclusion?.treeSize ?? null
+	};
 }
 
 /** A print for a person (GET …/record.pdf), noted in record_prints so the verification page can find it. */
@@ -99,7 +120,9 @@ const ARCHIVE: Recorder = { kind: 'system', name: 'record archive' };
  */
 export async function storeReleasedRecord({ workOrderId }: { workOrderId: string }) {
 	if (await releasedRecordOf(db(), workOrderId)) return;
-	const pdf = await render(workOrderId, 'released');
+	// A checkpoint of the trail as it stands, holding the release event (RFC 9162; 8/10).
+	const checkpoint = await checkpointNow('release');
+	const pdf = await render(workOrderId, 'released', undefined, checkpoint.treeSize);
 	if (!pdf) throw new Error(`no work order ${workOrderId}`);
 	if (pdf.status !== 'released') throw new Error(`${pdf.number} is not released`);
 	const sha256 = sha256Hex(pdf.bytes);
@@ -115,7 +138,8 @@ export async function storeReleasedRecord({ workOrderId }: { workOrderId: string
 					size: pdf.bytes.length,
 					objectKey: releasedKey(sha256),
 					recordHash: pdf.recordHash,
-					chainSeq: pdf.chainHead.seq
+					chainSeq: pdf.chainHead.seq,
+					checkpointSize: pdf.checkpointSize
 				}
 			});
 			await tx.insert(releasedRecords).values({
@@ -125,6 +149,7 @@ export async function storeReleasedRecord({ workOrderId }: { workOrderId: string
 				size: pdf.bytes.length,
 				recordHash: pdf.recordHash,
 				chainSeq: pdf.chainHead.seq,
+				checkpointSize: pdf.checkpointSize,
 				...rec
 			});
 			await tx.insert(recordPrints).values(printRow(workOrderId, pdf, null));

@@ -118,6 +118,14 @@ export type RenderOptions = {
 	thumbs: Map<string, Uint8Array>;
 	/** A print made after the released original: marked as a copy on every page. */
 	copy: boolean;
+	/** A released record: the release event's RFC 9162 inclusion proof against a checkpoint (8/10). */
+	inclusion?: {
+		seq: number;
+		eventHash: string;
+		treeSize: number;
+		rootHash: string;
+		path: string[];
+	};
 };
 
 const require = createRequire(import.meta.url);
@@ -453,6 +461,16 @@ export async function renderRecordPdf(r: RecordInput, o: RenderOptions): Promise
 	L.heading('Verification');
 	L.pair('Record content hash', o.recordHash);
 	L.pair('Latest audit event', `#${o.chainHead.seq}, hash ${o.chainHead.hash}`);
+	if (o.inclusion) {
+		const p = o.inclusion;
+		L.pair('Release event', `#${p.seq}, hash ${p.eventHash}`);
+		L.pair('Checkpoint', `${p.treeSize} events, Merkle root ${p.rootHash} (RFC 9162)`);
+		L.text(
+			`Inclusion proof of the release event in the checkpoint (${p.path.length} hashes, leaf first; checked with scripts/verify-export.mjs --inclusion):`,
+			{ size: 8, color: MUTED, gap: 0 }
+		);
+		p.path.forEach((h, i) => L.text(h, { size: 7, gap: i === p.path.length - 1 ? 4 : 0 }));
+	}
 	L.text('Verify at (or scan the code):', { size: 9.5, bold: true, color: MUTED, gap: 0 });
 	L.text(o.verifyUrl, { size: 7.5, gap: 4 });
 	const qr = await QRCode.toBuffer(o.verifyUrl, { type: 'png', margin: 1, width: 240 });

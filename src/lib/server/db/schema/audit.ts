@@ -53,3 +53,25 @@ export const auditChainHead = pgTable(
 	},
 	(t) => [check('audit_chain_head_single', sql`${t.id} = 1`)]
 );
+
+/**
+ * Checkpoints of the trail (8/10): the RFC 9162 Merkle tree head over the first `tree_size`
+ * event hashes, kept at least every 1,000 events and at each release. An outsider holding two
+ * checkpoints checks with a consistency proof that the later trail extends the earlier one, and
+ * with an inclusion proof that an event is in it (scripts/verify-export.mjs). Append-only.
+ */
+export const auditCheckpoints = pgTable(
+	'audit_checkpoints',
+	{
+		treeSize: bigint('tree_size', { mode: 'number' }).primaryKey(),
+		rootHash: sha256('root_hash').notNull(),
+		/** interval (every 1,000 events) or release (a released record's proof names it) */
+		reason: text('reason').notNull(),
+		createdAt: timestamp('created_at', { withTimezone: true, precision: 3 }).notNull().defaultNow()
+	},
+	(t) => [
+		check('audit_checkpoints_size', sql`${t.treeSize} > 0`),
+		check('audit_checkpoints_reason', sql`${t.reason} in ('interval', 'release')`),
+		check('audit_checkpoints_root', sql`octet_length(${t.rootHash}) = 32`)
+	]
+);

@@ -307,6 +307,8 @@ export const releasedRecords = pgTable(
 		/** The record's content hash printed in it, and the chain head it names. */
 		recordHash: text('record_hash').notNull(),
 		chainSeq: bigint('chain_seq', { mode: 'number' }).notNull(),
+		/** The checkpoint the PDF proves the release event against (8/10; migration 0016). */
+		checkpointSize: bigint('checkpoint_size', { mode: 'number' }),
 		...recorded()
 	},
 	(t) => [
