@@ -96,6 +96,7 @@ const paths = (): Record<string, string> => ({
 	'/login': '/login',
 	'/logout': '/logout',
 	'/api/v1/health': '/api/v1/health',
+	'/api/v1/audit': '/api/v1/audit?limit=5',
 	'/api/v1/audit/verify': '/api/v1/audit/verify',
 	'/api/v1/audit/checkpoints': '/api/v1/audit/checkpoints',
 	// No checkpoint of 1 event in this database: 404 JSON to those allowed.
@@ -108,7 +109,6 @@ const layoutsOnly = [
 	'/',
 	'/api',
 	'/api/v1',
-	'/api/v1/audit',
 	'/(app)/procedures/versions',
 	'/(app)/work/[id=uuid]/steps'
 ];

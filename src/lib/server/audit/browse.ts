@@ -1,0 +1,186 @@
+import {
+	and,
+	asc,
+	desc,
+	eq,
+	gt,
+	gte,
+	inArray,
+	like,
+	lt,
+	lte,
+	or,
+	sql,
+	type SQL
+} from 'drizzle-orm';
+import { z } from 'zod';
+import { db } from '../db/index';
+import { auditEvent, equipment, workOrders } from '../db/schema/index';
+
+/**
+ * The audit-trail browser's query (8/10): filters that live in the page's URL and in
+ * GET /api/v1/audit's query string alike, paged by a seq cursor (never by offset: a page stays
+ * the same however many events are appended meanwhile).
+ */
+const instant = (what: string) =>
+	z.union([z.iso.datetime({ offset: true }), z.iso.date()], {
+		error: `${what} is a date (2026-12-01) or a date and time with its zone (2026-12-01T08:00:00Z).`
+	});
+const word = (what: string, max: number) =>
+	z
+		.string()
+		.trim()
+		.max(max, `Keep ${what} under ${max} characters.`)
+		.regex(/^[a-z][a-z_.]*$/, `${what} is lowercase words joined by dots or underscores.`);
+
+export const auditQuerySchema = z.strictObject({
+	from: instant('from').optional(),
+	to: instant('to').optional(),
+	person: z.uuid({ error: 'person is an account id.' }).optional(),
+	action: word('action', 80).optional(),
+	entityType: word('entityType', 40).optional(),
+	equipment: z.string().trim().min(1).max(40, 'Keep the tag under 40 characters.').optional(),
+	workOrder: z
+		.string()
+		.trim()
+		.min(1)
+		.max(40, 'Keep the work order under 40 characters.')
+		.optional(),
+	q: z.string().trim().min(1).max(200, 'Keep the search under 200 characters.').optional(),
+	/** The cursor: the seq of the last event of the page before. */
+	after: z.coerce
+		.number({ error: 'after is the seq of an event (a whole number from 1).' })
+		.int('after is the seq of an event (a whole number from 1).')
+		.positive('after is the seq of an event (a whole number from 1).')
+		.max(Number.MAX_SAFE_INTEGER, 'after is too large.')
+		.optional(),
+	order: z.enum(['desc', 'asc'], { error: 'order is desc (newest first) or asc.' }).default('desc'),
+	limit: z.coerce
+		.number({ error: 'limit is a whole number from 1 to 200.' })
+		.int('limit is a whole number from 1 to 200.')
+		.min(1, 'limit is a whole number from 1 to 200.')
+		.max(200, 'limit is a whole number from 1 to 200.')
+		.default(50)
+});
+export type AuditQuery = z.infer<typeof auditQuerySchema>;
+
+/** The query string as filters: an empty field of the filter form means no filter. */
+export const auditParams = (params: URLSearchParams) =>
+	Object.fromEntries([...params].filter(([, v]) => v.trim() !== ''));
+
+/** An ISO date is the whole day: `from` at its start, `to` at its end (UTC). */
+const startOf = (v: string) => new Date(v.length === 10 ? `${v}T00:00:00Z` : v);
+const endOf = (v: string) =>
+	v.length === 10 ? new Date(Date.parse(`${v}T00:00:00Z`) + 86_400_000 - 1) : new Date(v);
+
+const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
+
+/** Escapes LIKE's wildcards so that a search for "50%" finds "50%". */
+const literal = (s: string) => s.replace(/[\\%_]/g, (c) => `\\${c}`);
+
+export type AuditRow = {
+	seq: number;
+	at: string;
+	actorKind: string;
+	actorId: string | null;
+	actorName: string;
+	actorRoles: string[];
+	action: string;
+	entityType: string;
+	entityId: string | null;
+	newValues: unknown;
+	previousValues: unknown;
+	reason: string | null;
+	clientAddress: string | null;
+	prevHash: string;
+	hash: string;
+};
+
+/**
+ * One page of the trail. A work order is named by its number or id and finds the events of the
+ * work order and of its steps; equipment is named by its tag and finds its own events and those
+ * of its work orders. Free text looks in the reason and in the new and previous values.
+ */
+export async function browseAudit(q: AuditQuery) {
+	const where: (SQL | undefined)[] = [];
+	if (q.from) where.push(gte(auditEvent.at, startOf(q.from)));
+	if (q.to) where.push(lte(auditEvent.at, endOf(q.to)));
+	if (q.person) where.push(eq(auditEvent.actorId, q.person));
+	if (q.action)
+		where.push(
+			q.action.endsWith('.')
+				? like(auditEvent.action, `${literal(q.action)}%`)
+				: eq(auditEvent.action, q.action)
+		);
+	if (q.entityType) where.push(eq(auditEvent.entityType, q.entityType));
+	const ids: string[][] = [];
+	if (q.workOrder) {
+		// An id names itself (the trail keeps events of any record, whatever tables say now).
+		if (UUID.test(q.workOrder)) ids.push([q.workOrder.toLowerCase()]);
+		else {
+			const [wo] = await db()
+				.select({ id: workOrders.id })
+				.from(workOrders)
+				.where(eq(workOrders.number, q.workOrder.toUpperCase()));
+			ids.push(wo ? [wo.id] : []);
+		}
+	}
+	if (q.equipment) {
+		const [eq0] = await db()
+			.select({ id: equipment.id })
+			.from(equipment)
+			.where(eq(equipment.tag, q.equipment.toUpperCase()));
+		const orders = eq0
+			? await db()
+					.select({ id: workOrders.id })
+					.from(workOrders)
+					.where(eq(workOrders.equipmentId, eq0.id))
+			: [];
+		ids.push(eq0 ? [eq0.id, ...orders.map((o) => o.id)] : []);
+	}
+	for (const set of ids) {
+		if (!set.length) return { events: [] as AuditRow[], next: null };
+		// A step's events carry "<work order>:<step>" as their id.
+		where.push(
+			or(
+				inArray(auditEvent.entityId, set),
+				...set.map((id) => like(auditEvent.entityId, `${id}:%`))
+			)
+		);
+	}
+	if (q.q) {
+		// The expression of the trigram index audit_event_text (migration 0017), searched as a whole.
+		where.push(
+			sql`(coalesce(${auditEvent.reason}, '') || ' ' || coalesce(${auditEvent.newValues}::text, '') || ' ' || coalesce(${auditEvent.previousValues}::text, '') || ' ' || ${auditEvent.actorName}) ilike ${`%${literal(q.q)}%`}`
+		);
+	}
+	if (q.after)
+		where.push(q.order === 'desc' ? lt(auditEvent.seq, q.after) : gt(auditEvent.seq, q.after));
+	const rows = await db()
+		.select({
+			seq: auditEvent.seq,
+			at: auditEvent.at,
+			actorKind: auditEvent.actorKind,
+			actorId: auditEvent.actorId,
+			actorName: auditEvent.actorName,
+			actorRoles: auditEvent.actorRoles,
+			action: auditEvent.action,
+			entityType: auditEvent.entityType,
+			entityId: auditEvent.entityId,
+			newValues: auditEvent.newValues,
+			previousValues: auditEvent.previousValues,
+			reason: auditEvent.reason,
+			clientAddress: auditEvent.clientAddress,
+			prevHash: auditEvent.prevHash,
+			hash: auditEvent.hash
+		})
+		.from(auditEvent)
+		.where(and(...where))
+		.orderBy(q.order === 'desc' ? desc(auditEvent.seq) : asc(auditEvent.seq))
+		.limit(q.limit + 1);
+	const page = rows.slice(0, q.limit).map((r) => ({ ...r, at: r.at.toISOString() }));
+	return {
+		events: page as AuditRow[],
+		next: rows.length > q.limit ? (page.at(-1)?.seq ?? null) : null
+	};
+}
