@@ -6,6 +6,19 @@ import { defineConfig, devices } from '@playwright/test';
 const port = Number(process.env.E2E_PORT ?? 3100);
 const origin = `http://127.0.0.1:${port}`;
 
+const launchOptions = {
+	executablePath: process.env.CHROMIUM_PATH ?? '/usr/bin/chromium',
+	args: [
+		'--no-sandbox',
+		'--disable-gpu',
+		'--disable-background-networking',
+		'--disable-component-update',
+		'--disable-sync',
+		'--no-first-run',
+		'--disable-quic'
+	]
+};
+
 export default defineConfig({
 	testDir: 'tests/e2e',
 	testMatch: '**/*.e2e.ts',
@@ -23,21 +36,15 @@ export default defineConfig({
 	projects: [
 		{
 			name: 'chromium',
-			use: {
-				...devices['Desktop Chrome'],
-				launchOptions: {
-					executablePath: process.env.CHROMIUM_PATH ?? '/usr/bin/chromium',
-					args: [
-						'--no-sandbox',
-						'--disable-gpu',
-						'--disable-background-networking',
-						'--disable-component-update',
-						'--disable-sync',
-						'--no-first-run',
-						'--disable-quic'
-					]
-				}
-			}
+			testIgnore: '**/tamper.e2e.ts',
+			use: { ...devices['Desktop Chrome'], launchOptions }
+		},
+		// Breaks the audit chain on purpose: runs alone, after every other browser test.
+		{
+			name: 'tamper',
+			testMatch: '**/tamper.e2e.ts',
+			dependencies: ['chromium'],
+			use: { ...devices['Desktop Chrome'], launchOptions }
 		}
 	],
 	webServer: {

@@ -151,6 +151,8 @@ if (wants('e2e')) {
 		PLAYWRIGHT_SKIP_BROWSER_DOWNLOAD: '1',
 		E2E_DATABASE_URL: localUrl('app', E2E_DATABASE),
 		E2E_OWNER_DATABASE_URL: localUrl('owner', E2E_DATABASE),
+		// tests/e2e/tamper.e2e.ts changes an event past the append-only trigger, as an intruder could.
+		E2E_SUPERUSER_DATABASE_URL: localUrl('superuser', E2E_DATABASE),
 		E2E_AUTH_SECRET: localSecrets().authSecret,
 		...fakeEnv
 	});

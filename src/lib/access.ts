@@ -28,6 +28,7 @@ export const routeAccess = {
 	'/api/v1/health': 'public',
 	'/api/v1/audit': auditors,
 	'/api/v1/audit/verify': auditors,
+	'/api/v1/audit/verify/stream': auditors,
 	'/api/v1/audit/checkpoints': auditors,
 	'/api/v1/audit/proof': auditors,
 	'/api/v1/audit/export': auditors,

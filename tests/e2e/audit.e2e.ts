@@ -59,6 +59,7 @@ test('an inspector filters the trail to one work order, opens an event, pages, c
 
 	// The cursor pages through the whole trail: the second page starts below the first.
 	await page.goto('/audit');
+	await expect(list.getByRole('listitem')).toHaveCount(50);
 	const firstSeq = Number(
 		(await list.getByRole('listitem').last().locator('summary span').first().textContent())!.slice(
 			1
@@ -66,12 +67,11 @@ test('an inspector filters the trail to one work order, opens an event, pages, c
 	);
 	await page.getByRole('link', { name: 'Older events' }).click();
 	await expect(page).toHaveURL(/after=\d+/);
-	const topSeq = Number(
-		(await list.getByRole('listitem').first().locator('summary span').first().textContent())!.slice(
-			1
-		)
+	// The next page starts right below the last event of the first (the list shows the old page
+	// until the new one has arrived, so wait for it).
+	await expect(list.getByRole('listitem').first().locator('summary span').first()).toHaveText(
+		`#${firstSeq - 1}`
 	);
-	expect(topSeq).toBe(firstSeq - 1);
 
 	// A wrong filter in the address says what is wrong instead of showing nothing.
 	await page.goto('/audit?limit=5000');

@@ -133,6 +133,30 @@ describe('the audit API', () => {
 		const [failed] =
 			await t.ownerSql`select actor_name, new_values from audit_event where action = 'audit.verify_failed'`;
 		expect(failed).toMatchObject({ actor_name: 'Iris Moravec', new_values: { firstBadSeq: 4 } });
+		// Quality and the Administrators are told by e-mail, written with the failure's own event (8/10).
+		const mails = await t.ownerSql`select payload->>'to' as "to", payload->>'subject' as subject
+			from outbox where kind = 'mail' and payload->>'subject' like 'The audit trail failed%' order by 1`;
+		expect(mails).toEqual([
+			{
+				to: 'admin@ostmere.example',
+				subject: 'The audit trail failed its verification at event 4'
+			},
+			{
+				to: 'quality@ostmere.example',
+				subject: 'The audit trail failed its verification at event 4'
+			}
+		]);
+
+		// The streaming verification reports its progress, then the same answer.
+		const stream = await get('/api/v1/audit/verify/stream', inspector);
+		expect(stream.headers.get('content-type')).toContain('application/x-ndjson');
+		const lines = (await stream.text())
+			.trimEnd()
+			.split('\n')
+			.map((l) => JSON.parse(l));
+		expect(lines.at(-1)).toEqual({ done: true, ...body });
+		for (const l of lines.slice(0, -1))
+			expect(l).toEqual({ checked: expect.any(Number), total: expect.any(Number) });
 
 		// npm run audit:verify says the same from the command line, and exits 1.
 		const cli = spawnSync(process.execPath, [join(root, 'scripts/audit-verify.js')], {

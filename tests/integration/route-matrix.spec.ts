@@ -98,6 +98,7 @@ const paths = (): Record<string, string> => ({
 	'/api/v1/health': '/api/v1/health',
 	'/api/v1/audit': '/api/v1/audit?limit=5',
 	'/api/v1/audit/verify': '/api/v1/audit/verify',
+	'/api/v1/audit/verify/stream': '/api/v1/audit/verify/stream',
 	'/api/v1/audit/checkpoints': '/api/v1/audit/checkpoints',
 	// No checkpoint of 1 event in this database: 404 JSON to those allowed.
 	'/api/v1/audit/proof': '/api/v1/audit/proof?seq=1&treeSize=1',

@@ -217,3 +217,25 @@ export async function notifyLocked(
 		})
 	);
 }
+
+/** The audit trail failed its verification (8/10): to Quality and the Administrators. */
+export async function notifyVerificationFailed(
+	tx: Transaction,
+	result: { events: number; firstBadSeq: number | null; problem: string | null },
+	checkedBy: string,
+	causeSeq: number
+) {
+	const people = await holders(tx, ['quality', 'administrator']);
+	return send(tx, people, causeSeq, (p) =>
+		composeMail(p, {
+			subject: `The audit trail failed its verification at event ${result.firstBadSeq}`,
+			lines: [
+				`${checkedBy} ran the verification of the audit trail. It failed at event ${result.firstBadSeq}: ${result.problem}.`,
+				'Treat it as a data-integrity incident under your site procedures: keep the database as it is, and compare with the latest export and checkpoints.'
+			],
+			link: `${appOrigin()}/audit?after=${(result.firstBadSeq ?? 0) + 1}`,
+			linkText: 'Open the event in the audit trail',
+			why: 'You receive this because you hold the Quality or Administrator role.'
+		})
+	);
+}
