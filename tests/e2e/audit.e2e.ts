@@ -1,3 +1,4 @@
+import { readFileSync } from 'node:fs';
 import { expect, test } from '@playwright/test';
 import { expectNoHorizontalScroll, ownerSql, shot, signIn } from './helpers';
 
@@ -43,6 +44,21 @@ test('an inspector filters the trail to one work order, opens an event, pages, c
 	expect(n).toBeGreaterThan(5);
 	for (const text of await entries.allTextContents())
 		expect(text).toMatch(/work_order|signature|deviation|evidence|equipment/);
+
+	// This view as CSV, with its progress; the file holds the same events, oldest first.
+	const csv = page.waitForEvent('download');
+	await page.getByRole('button', { name: 'CSV' }).click();
+	const file = await csv;
+	expect(file.suggestedFilename()).toMatch(/^countersign-audit-view-\d{4}-\d{2}-\d{2}\.csv$/);
+	const rows = readFileSync((await file.path())!, 'utf8').split('\n');
+	expect(rows[0]).toBe(
+		'seq,at,actor_kind,actor_id,actor_name,actor_roles,action,entity_type,entity_id,reason,new_values,previous_values,client_address,prev_hash,hash'
+	);
+	await expect(page.getByRole('region', { name: 'Export this view' })).toContainText(
+		/Exported\s+\d+ events \(up to event (\d+) of \1\)/
+	);
+	await shot(page, 'audit-export-view');
+	expect(rows.filter((r) => /^\d+,/.test(r)).length).toBeGreaterThanOrEqual(n);
 
 	// A corrected entry: old and new values side by side, with the reason.
 	await page.getByLabel('Text in reasons and values').fill('Typing error at entry');

@@ -116,6 +116,72 @@ describe('the audit API', () => {
 		expect(verifyExport(file).stderr).toMatch(/^line 2: seq is 3, expected 2/);
 	});
 
+	it('a filtered view exports as CSV and as JSON Lines, and the export records its filters (8/10 item 5; AT7)', async () => {
+		const response = await get(
+			'/api/v1/audit/export?format=csv&entityType=account&action=account.create',
+			inspector
+		);
+		expect(response.status).toBe(200);
+		expect(response.headers.get('content-type')).toContain('text/csv');
+		expect(response.headers.get('content-disposition')).toMatch(/countersign-audit-view-.*\.csv/);
+		const text = await response.text();
+		const [header, ...rows] = text.trimEnd().split('\n');
+		expect(header).toBe(
+			'seq,at,actor_kind,actor_id,actor_name,actor_roles,action,entity_type,entity_id,reason,new_values,previous_values,client_address,prev_hash,hash'
+		);
+		const expected = (await t.ownerSql`select seq::int as seq, encode(hash, 'hex') as hash
+			from audit_event where entity_type = 'account' and action = 'account.create' order by seq`) as unknown as {
+			seq: number;
+			hash: string;
+		}[];
+		expect(expected.length).toBe(6); // the six demo accounts
+		expect(rows.map((r) => Number(r.split(',')[0]))).toEqual(expected.map((e) => e.seq));
+		expect(rows.map((r) => r.split(',').at(-1))).toEqual(expected.map((e) => e.hash));
+		const [recorded] = await t.ownerSql`select new_values from audit_event
+			where action = 'audit.export' order by seq desc limit 1`;
+		expect(recorded!.new_values).toEqual({
+			format: 'csv',
+			filters: { entityType: 'account', action: 'account.create' }
+		});
+
+		const jsonl = await (await get('/api/v1/audit/export?entityType=account', inspector)).text();
+		const lines = jsonl
+			.trimEnd()
+			.split('\n')
+			.map((l) => JSON.parse(l));
+		expect(lines.length).toBeGreaterThanOrEqual(6);
+		expect(lines.every((l) => l.entity_type === 'account')).toBe(true);
+		expect(lines.map((l) => l.seq)).toEqual([...lines.map((l) => l.seq)].sort((a, b) => a - b));
+	});
+
+	it('a CSV cell that a spreadsheet would run as a formula is led by an apostrophe', async () => {
+		const { csvCell } = await import('../../src/lib/server/audit/browse');
+		expect(csvCell('=HYPERLINK("x")')).toBe(`'=HYPERLINK("x")`);
+		expect(csvCell('+1')).toBe("'+1");
+		expect(csvCell('-2')).toBe("'-2");
+		expect(csvCell('@SUM(A1)')).toBe("'@SUM(A1)");
+		expect(csvCell(['technician', 'quality'])).toBe('technician;quality');
+		expect(csvCell({ a: 1 })).toBe('{"a":1}');
+		expect(csvCell(null)).toBe('');
+		expect(csvCell(42)).toBe('42');
+	});
+
+	it('an export with a wrong format or filter is refused with a message (400), and nothing is recorded', async () => {
+		const before =
+			await t.ownerSql`select count(*)::int as n from audit_event where action = 'audit.export'`;
+		const bad = await get('/api/v1/audit/export?format=xlsx', inspector);
+		expect(bad.status).toBe(400);
+		expect(await bad.json()).toEqual({ message: 'format is jsonl or csv.', field: 'format' });
+		const unknown = await get('/api/v1/audit/export?colour=red', inspector);
+		expect(unknown.status).toBe(400);
+		expect((await unknown.json()).message).toMatch(/^Unknown filter colour/);
+		const wrongDate = await get('/api/v1/audit/export?from=yesterday', inspector);
+		expect(wrongDate.status).toBe(400);
+		const after =
+			await t.ownerSql`select count(*)::int as n from audit_event where action = 'audit.export'`;
+		expect(after[0]!.n).toBe(before[0]!.n);
+	});
+
 	it('a failed verification names the first bad event and is itself audited', async () => {
 		const superuser = postgres(localUrl('superuser', t.name), { max: 1, onnotice: () => {} });
 		await superuser.begin(async (sql) => {

@@ -492,7 +492,8 @@ export async function getWorkOrder(id: string) {
 		.select({
 			sha256: releasedRecords.sha256,
 			size: releasedRecords.size,
-			storedAt: releasedRecords.recordedAt
+			storedAt: releasedRecords.recordedAt,
+			checkpointSize: releasedRecords.checkpointSize
 		})
 		.from(releasedRecords)
 		.where(eq(releasedRecords.workOrderId, s.wo.id));

@@ -43,7 +43,7 @@ async function render(
 	const found = await getWorkOrder(id);
 	if (!found) return null;
 	const site = (await currentSite())!;
-	const released = await releasedRecordOf(db(), id);
+	const released = found.released;
 	const printKind: PrintKind = kind !== 'auto' ? kind : released ? 'copy' : 'working';
 	// A released record proves its release event against a checkpoint: the one made for it, and
 	// the same one again on every copy.

@@ -1,25 +1,69 @@
+import { json } from '@sveltejs/kit';
+import { stringify } from 'csv-stringify/sync';
 import { recordEventNow } from '$lib/server/audit/now';
 import { exportLines } from '$lib/server/audit/export';
+import {
+	auditParams,
+	auditQuerySchema,
+	csvCell,
+	csvColumns,
+	exportFields,
+	filteredEvents,
+	type AuditQuery
+} from '$lib/server/audit/browse';
 import { requireRole } from '$lib/server/auth/guard';
 import { db } from '$lib/server/db/index';
 import type { RequestHandler } from './$types';
 
+const filterNames = ['from', 'to', 'person', 'action', 'entityType', 'equipment', 'workOrder', 'q'];
+
 /**
- * The whole trail as JSON Lines, one event per line: its hashed fields under their column
- * names, plus prev_hash and hash (hex). `node scripts/verify-export.mjs FILE` checks it without
- * the server. The export is itself an audit event, the last line of the file.
+ * The trail, or a filtered view of it (8/10), as JSON Lines (default) or CSV (?format=csv).
+ * Without filters the JSON Lines are the whole trail in the form of 3/10: its hashed fields under
+ * their column names plus prev_hash and hash (hex), which `node scripts/verify-export.mjs FILE`
+ * checks without the server. Filters are those of GET /api/v1/audit (paging aside); a filtered
+ * view has gaps in the chain, so only each event's own fields and hashes are there to compare.
+ * Every export is itself an audit event (with its format and filters), the last event it holds
+ * when the view includes it. The X-Export-Events header says how many events up to that one the
+ * trail held, so a client can show progress.
  */
 export const GET: RequestHandler = async (event) => {
 	const user = await requireRole(event, 'quality', 'inspector');
+	const params = auditParams(event.url.searchParams);
+	const format = params.format ?? 'jsonl';
+	delete params.format;
+	delete params.after;
+	delete params.limit;
+	delete params.order;
+	if (format !== 'jsonl' && format !== 'csv')
+		return json({ message: 'format is jsonl or csv.', field: 'format' }, { status: 400 });
+	const parsed = auditQuerySchema.safeParse(params);
+	if (!parsed.success) {
+		const issue = parsed.error.issues[0]!;
+		return json(
+			{
+				message:
+					issue.code === 'unrecognized_keys'
+						? `Unknown filter ${issue.keys.join(', ')}: use format, ${filterNames.join(', ')}.`
+						: issue.message,
+				field: issue.path.map(String).join('.') || null
+			},
+			{ status: 400 }
+		);
+	}
+	const filters: Partial<AuditQuery> = Object.fromEntries(
+		filterNames.filter((k) => k in params).map((k) => [k, parsed.data[k as keyof AuditQuery]])
+	);
+	const filtered = Object.keys(filters).length > 0;
 	const { seq } = await recordEventNow({
 		actor: { kind: 'person', id: user.id, name: user.name, roles: user.roles },
 		action: 'audit.export',
 		entityType: 'audit_trail',
-		newValues: { format: 'jsonl' },
+		newValues: filtered ? { format, filters } : { format },
 		clientAddress: event.getClientAddress()
 	});
+	const lines = exportText(format, filtered ? parsed.data : null, seq);
 	const encoder = new TextEncoder();
-	const lines = exportLines(db().client, seq);
 	const body = new ReadableStream<Uint8Array>({
 		async pull(controller) {
 			const next = await lines.next();
@@ -31,11 +75,37 @@ export const GET: RequestHandler = async (event) => {
 		}
 	});
 	const stamp = new Date().toISOString().slice(0, 10);
+	const name = `countersign-audit-${filtered ? 'view' : 'trail'}-${stamp}.${format}`;
 	return new Response(body, {
 		headers: {
-			'content-type': 'application/x-ndjson; charset=utf-8',
-			'content-disposition': `attachment; filename="countersign-audit-trail-${stamp}.jsonl"`,
-			'cache-control': 'no-store'
+			'content-type':
+				format === 'csv' ? 'text/csv; charset=utf-8' : 'application/x-ndjson; charset=utf-8',
+			'content-disposition': `attachment; filename="${name}"`,
+			'cache-control': 'no-store',
+			'x-export-events': String(seq)
 		}
 	});
 };
+
+async function* exportText(
+	format: 'jsonl' | 'csv',
+	q: AuditQuery | null,
+	upTo: number
+): AsyncGenerator<string> {
+	if (format === 'csv') yield stringify([[...csvColumns]]);
+	if (!q && format === 'jsonl') {
+		yield* exportLines(db().client, upTo);
+		return;
+	}
+	const pages = q ? filteredEvents(q, upTo) : filteredEvents(auditQuerySchema.parse({}), upTo);
+	for await (const rows of pages) {
+		if (format === 'jsonl') yield rows.map((r) => JSON.stringify(exportFields(r)) + '\n').join('');
+		else {
+			const cells = rows.map((r) => {
+				const f = exportFields(r) as Record<string, unknown>;
+				return csvColumns.map((c) => csvCell(f[c]));
+			});
+			yield stringify(cells);
+		}
+	}
+}
