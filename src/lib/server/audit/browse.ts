@@ -64,6 +64,18 @@ export const auditQuerySchema = z.strictObject({
 });
 export type AuditQuery = z.infer<typeof auditQuerySchema>;
 
+/** A refused query as the API's JSON error: the first problem, and the field it is in. */
+export function queryRefusal(error: z.ZodError, known: string[]) {
+	const issue = error.issues[0]!;
+	return {
+		message:
+			issue.code === 'unrecognized_keys'
+				? `Unknown filter ${issue.keys.join(', ')}: use ${known.join(', ')}.`
+				: issue.message,
+		field: issue.path.map(String).join('.') || null
+	};
+}
+
 /** The query string as filters: an empty field of the filter form means no filter. */
 export const auditParams = (params: URLSearchParams) =>
 	Object.fromEntries([...params].filter(([, v]) => v.trim() !== ''));

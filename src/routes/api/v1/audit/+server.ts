@@ -1,5 +1,5 @@
 import { json } from '@sveltejs/kit';
-import { auditParams, auditQuerySchema, browseAudit } from '$lib/server/audit/browse';
+import { auditParams, auditQuerySchema, browseAudit, queryRefusal } from '$lib/server/audit/browse';
 import { requireRole } from '$lib/server/auth/guard';
 import type { RequestHandler } from './$types';
 
@@ -12,19 +12,22 @@ import type { RequestHandler } from './$types';
 export const GET: RequestHandler = async (event) => {
 	await requireRole(event, 'quality', 'inspector');
 	const parsed = auditQuerySchema.safeParse(auditParams(event.url.searchParams));
-	if (!parsed.success) {
-		const issue = parsed.error.issues[0]!;
-		const field = issue.path.map(String).join('.');
+	if (!parsed.success)
 		return json(
-			{
-				message:
-					issue.code === 'unrecognized_keys'
-						? `Unknown filter ${issue.keys.join(', ')}: use from, to, person, action, entityType, equipment, workOrder, q, order, limit, after.`
-						: issue.message,
-				field: field || null
-			},
+			queryRefusal(parsed.error, [
+				'from',
+				'to',
+				'person',
+				'action',
+				'entityType',
+				'equipment',
+				'workOrder',
+				'q',
+				'order',
+				'limit',
+				'after'
+			]),
 			{ status: 400 }
 		);
-	}
 	return json(await browseAudit(parsed.data), { headers: { 'cache-control': 'no-store' } });
 };

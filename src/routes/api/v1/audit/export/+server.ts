@@ -9,6 +9,7 @@ import {
 	csvColumns,
 	exportFields,
 	filteredEvents,
+	queryRefusal,
 	type AuditQuery
 } from '$lib/server/audit/browse';
 import { requireRole } from '$lib/server/auth/guard';
@@ -38,19 +39,8 @@ export const GET: RequestHandler = async (event) => {
 	if (format !== 'jsonl' && format !== 'csv')
 		return json({ message: 'format is jsonl or csv.', field: 'format' }, { status: 400 });
 	const parsed = auditQuerySchema.safeParse(params);
-	if (!parsed.success) {
-		const issue = parsed.error.issues[0]!;
-		return json(
-			{
-				message:
-					issue.code === 'unrecognized_keys'
-						? `Unknown filter ${issue.keys.join(', ')}: use format, ${filterNames.join(', ')}.`
-						: issue.message,
-				field: issue.path.map(String).join('.') || null
-			},
-			{ status: 400 }
-		);
-	}
+	if (!parsed.success)
+		return json(queryRefusal(parsed.error, ['format', ...filterNames]), { status: 400 });
 	const filters: Partial<AuditQuery> = Object.fromEntries(
 		filterNames.filter((k) => k in params).map((k) => [k, parsed.data[k as keyof AuditQuery]])
 	);
@@ -62,7 +52,7 @@ export const GET: RequestHandler = async (event) => {
 		newValues: filtered ? { format, filters } : { format },
 		clientAddress: event.getClientAddress()
 	});
-	const lines = exportText(format, filtered ? parsed.data : null, seq);
+	const lines = exportText(format, filtered, parsed.data, seq);
 	const encoder = new TextEncoder();
 	const body = new ReadableStream<Uint8Array>({
 		async pull(controller) {
@@ -89,16 +79,16 @@ export const GET: RequestHandler = async (event) => {
 
 async function* exportText(
 	format: 'jsonl' | 'csv',
-	q: AuditQuery | null,
+	filtered: boolean,
+	q: AuditQuery,
 	upTo: number
 ): AsyncGenerator<string> {
 	if (format === 'csv') yield stringify([[...csvColumns]]);
-	if (!q && format === 'jsonl') {
+	if (!filtered && format === 'jsonl') {
 		yield* exportLines(db().client, upTo);
 		return;
 	}
-	const pages = q ? filteredEvents(q, upTo) : filteredEvents(auditQuerySchema.parse({}), upTo);
-	for await (const rows of pages) {
+	for await (const rows of filteredEvents(q, upTo)) {
 		if (format === 'jsonl') yield rows.map((r) => JSON.stringify(exportFields(r)) + '\n').join('');
 		else {
 			const cells = rows.map((r) => {
