@@ -16,6 +16,8 @@ export type Access = 'public' | 'signed-in' | readonly Role[];
 const readers: readonly Role[] = ['technician', 'planner', 'quality', 'inspector'];
 const administrators: readonly Role[] = ['administrator'];
 const auditors: readonly Role[] = ['quality', 'inspector'];
+/** Access recertification (AC5): the administrators who grant access and those who review it. */
+const accessReviewers: readonly Role[] = ['administrator', 'quality', 'inspector'];
 const planners: readonly Role[] = ['planner'];
 const technicians: readonly Role[] = ['technician'];
 
@@ -33,6 +35,12 @@ export const routeAccess = {
 	'/api/v1/audit/proof': auditors,
 	'/api/v1/audit/export': auditors,
 	'/(app)/audit': auditors,
+	'/(app)/history': readers,
+	'/(app)/history/[kind=historykind]': readers,
+	'/(app)/history/[kind=historykind]/[id]': readers,
+	'/(app)/access-review': accessReviewers,
+	'/(app)/access-review/[id=uuid]': accessReviewers,
+	'/api/v1/access-review': accessReviewers,
 	'/api/[...path]': 'public',
 	'/(app)': 'signed-in',
 	'/(app)/account': 'signed-in',

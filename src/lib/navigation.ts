@@ -15,6 +15,7 @@ type NavHref = Extract<
 	| '/qualifications'
 	| '/audit'
 	| '/people'
+	| '/access-review'
 >;
 export type NavItem = { href: NavHref; label: string; route: keyof typeof routeAccess };
 
@@ -27,7 +28,8 @@ const items: NavItem[] = [
 	{ href: '/parts', label: 'Parts and lots', route: '/(app)/parts' },
 	{ href: '/qualifications', label: 'Qualifications', route: '/(app)/qualifications' },
 	{ href: '/audit', label: 'Audit trail', route: '/(app)/audit' },
-	{ href: '/people', label: 'People and access', route: '/(app)/people' }
+	{ href: '/people', label: 'People and access', route: '/(app)/people' },
+	{ href: '/access-review', label: 'Access review', route: '/(app)/access-review' }
 ];
 
 /** Only what the person's roles may open (the server enforces the same table). */

@@ -63,7 +63,16 @@ test('an inspector filters the trail to one work order, opens an event, pages, c
 	// A corrected entry: old and new values side by side, with the reason.
 	await page.getByLabel('Text in reasons and values').fill('Typing error at entry');
 	await page.getByRole('button', { name: 'Apply the filters' }).click();
-	const corrected = list.getByRole('listitem').filter({ hasText: 'work_order.entry' }).first();
+	// The new view has arrived (until then the previous view's list is still shown).
+	await expect(page).toHaveURL(/q=Typing/);
+	await expect(page.locator('section[aria-labelledby="events-title"]')).toHaveAttribute(
+		'aria-busy',
+		'false'
+	);
+	const corrected = list
+		.getByRole('listitem')
+		.filter({ hasText: 'work_order.entry_correct' })
+		.first();
 	await corrected.locator('summary').click();
 	await expect(corrected.getByRole('heading', { name: 'Previous values' })).toBeVisible();
 	await expect(corrected.getByRole('heading', { name: 'New values' })).toBeVisible();

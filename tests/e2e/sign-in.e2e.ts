@@ -22,15 +22,15 @@ const pagesByRole: Record<string, { sees: string[]; forbidden: string[] }> = {
 	},
 	planner: { sees: ['Waiting for me', 'Work', ...master], forbidden: ['/people'] },
 	quality: {
-		sees: ['Waiting for me', 'Work', ...master, 'Audit trail'],
+		sees: ['Waiting for me', 'Work', ...master, 'Audit trail', 'Access review'],
 		forbidden: ['/people', '/procedures/new', '/work/new']
 	},
 	inspector: {
-		sees: ['Waiting for me', 'Work', ...master, 'Audit trail'],
+		sees: ['Waiting for me', 'Work', ...master, 'Audit trail', 'Access review'],
 		forbidden: ['/people', '/people/new', '/instruments/new', '/work/new']
 	},
 	admin: {
-		sees: ['Waiting for me', 'People and access'],
+		sees: ['Waiting for me', 'People and access', 'Access review'],
 		forbidden: ['/plant', '/audit', '/procedures', '/qualifications', '/work']
 	}
 };

@@ -1,3 +1,5 @@
+import { readdirSync, readFileSync, statSync } from 'node:fs';
+import { join, relative, sep } from 'node:path';
 import sharp from 'sharp';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { mayAccess, routeAccess, type Access } from '../../src/lib/access';
@@ -104,6 +106,10 @@ const paths = (): Record<string, string> => ({
 	'/api/v1/audit/proof': '/api/v1/audit/proof?seq=1&treeSize=1',
 	'/api/v1/audit/export': '/api/v1/audit/export',
 	'/(app)/audit': '/audit',
+	'/(app)/history/[kind=historykind]/[id]': `/history/work_order/${ids.workOrder}`,
+	'/(app)/access-review': '/access-review',
+	'/(app)/access-review/[id=uuid]': `/access-review/${someAccountId}`,
+	'/api/v1/access-review': '/api/v1/access-review',
 	'/api/[...path]': '/api/v1/no-such-thing'
 });
 const layoutsOnly = [
@@ -111,7 +117,9 @@ const layoutsOnly = [
 	'/api',
 	'/api/v1',
 	'/(app)/procedures/versions',
-	'/(app)/work/[id=uuid]/steps'
+	'/(app)/work/[id=uuid]/steps',
+	'/(app)/history',
+	'/(app)/history/[kind=historykind]'
 ];
 
 const get = (path: string, cookie?: string) =>
@@ -151,6 +159,64 @@ describe('role × route matrix', () => {
 			}
 		});
 	}
+
+	it('the inspector cannot change anything: every form action and write endpoint answers 403 and records nothing but the refusal (8/10, AC1)', async () => {
+		// Every action of every +page.server.ts (the keys of `export const actions`) and every
+		// POST/PUT/PATCH/DELETE of a +server.ts, found in the route tree; a new one is tried too.
+		const routesDir = new URL('../../src/routes', import.meta.url).pathname;
+		const files = (dir: string): string[] =>
+			readdirSync(dir).flatMap((f) =>
+				statSync(join(dir, f)).isDirectory() ? files(join(dir, f)) : [join(dir, f)]
+			);
+		const writes: { routeId: string; method: string; action: string | null }[] = [];
+		for (const file of files(routesDir)) {
+			const routeId = '/' + relative(routesDir, join(file, '..')).split(sep).join('/');
+			const text = readFileSync(file, 'utf8');
+			if (file.endsWith('+page.server.ts')) {
+				const block = /export const actions[^=]*=\s*\{([\s\S]*?)\n\};/.exec(text)?.[1] ?? '';
+				for (const [, name] of block.matchAll(/^\t(\w+)\s*[:(]/gm))
+					writes.push({ routeId, method: 'POST', action: name! });
+			} else if (file.endsWith('+server.ts')) {
+				for (const [, method] of text.matchAll(/export const (POST|PUT|PATCH|DELETE)\b/g))
+					writes.push({ routeId, method: method!, action: null });
+			}
+		}
+		// Signing in and out and changing one's own password are every person's, not record changes.
+		const own = (w: (typeof writes)[number]) =>
+			w.routeId === '/login' || w.routeId === '/logout' || w.routeId === '/(app)/account';
+		const tried = writes.filter((w) => !own(w));
+		expect(tried.length).toBeGreaterThan(25); // the scan found the actions
+		const changes = async () =>
+			(
+				await t.ownerSql`select count(*)::int as n from audit_event
+					where action not in ('auth.access_denied', 'signature.refused')`
+			)[0]!.n as number;
+		const before = await changes();
+		const refused: string[] = [];
+		for (const w of tried) {
+			const path = paths()[w.routeId];
+			expect(path, `a path for ${w.routeId}`).toBeTruthy();
+			const url = `${app.origin}${path!.split('?')[0]}${w.action ? `?/${w.action}` : ''}`;
+			const response = await fetch(url, {
+				method: w.method,
+				redirect: 'manual',
+				headers: {
+					origin: app.origin,
+					accept: 'text/html',
+					cookie: cookies.get('inspector')!,
+					'content-type': 'application/x-www-form-urlencoded'
+				},
+				body: new URLSearchParams({
+					password: DEMO_PASSWORD,
+					seen: '0',
+					reason: 'an inspector tries'
+				})
+			});
+			if (response.status !== 403) refused.push(`${w.method} ${url}: ${response.status}`);
+		}
+		expect(refused).toEqual([]);
+		expect(await changes()).toBe(before);
+	});
 
 	it('an inspector’s POST to an administration action is refused with 403 and audited (AC1, AT7)', async () => {
 		const response = await fetch(`${app.origin}/people/new`, {

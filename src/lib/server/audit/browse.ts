@@ -15,7 +15,7 @@ import {
 } from 'drizzle-orm';
 import { z } from 'zod';
 import { db } from '../db/index';
-import { auditEvent, equipment, workOrders } from '../db/schema/index';
+import { auditEvent, deviations, equipment, workOrders } from '../db/schema/index';
 
 /**
  * The audit-trail browser's query (8/10): filters that live in the page's URL and in
@@ -47,6 +47,20 @@ export const auditQuerySchema = z.strictObject({
 		.max(40, 'Keep the work order under 40 characters.')
 		.optional(),
 	q: z.string().trim().min(1).max(200, 'Keep the search under 200 characters.').optional(),
+	/** One record's History: `<kind>:<id>` (see recordScope). */
+	record: z
+		.string()
+		.trim()
+		.max(120, 'Keep the record under 120 characters.')
+		.transform((v, ctx) => {
+			const parsed = parseRecordRef(v);
+			if (!parsed) {
+				ctx.addIssue({ code: 'custom', message: recordRefMessage });
+				return z.NEVER;
+			}
+			return parsed;
+		})
+		.optional(),
 	/** The cursor: the seq of the last event of the page before. */
 	after: z.coerce
 		.number({ error: 'after is the seq of an event (a whole number from 1).' })
@@ -63,6 +77,89 @@ export const auditQuerySchema = z.strictObject({
 		.default(50)
 });
 export type AuditQuery = z.infer<typeof auditQuerySchema>;
+
+/** The records that have a History (GLOSSARY): what each one's history holds is recordScope's. */
+export const historyKinds = [
+	'work_order',
+	'step',
+	'equipment',
+	'procedure_version',
+	'account'
+] as const;
+export type HistoryKind = (typeof historyKinds)[number];
+export type RecordRef = { kind: HistoryKind; id: string };
+
+const UUID_TEXT = '[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}';
+const STEP_ID = new RegExp(`^${UUID_TEXT}:[a-z0-9][a-z0-9-]{0,39}$`);
+const UUID = new RegExp(`^${UUID_TEXT}$`, 'i');
+const recordRefMessage =
+	'record is <kind>:<id>, the kind one of work_order, step, equipment, procedure_version, account; a step is step:<work order id>:<step key>.';
+
+/** `<kind>:<id>` as a record reference, or null when it is not one. */
+export function parseRecordRef(text: string): RecordRef | null {
+	const at = text.indexOf(':');
+	if (at < 0) return null;
+	return recordRef(text.slice(0, at), text.slice(at + 1));
+}
+
+/** A kind and an id as a record reference (ids lowercased), or null when they are not one. */
+export function recordRef(kind: string, rawId: string): RecordRef | null {
+	const id = rawId.toLowerCase();
+	if (!(historyKinds as readonly string[]).includes(kind)) return null;
+	if (kind === 'step' ? !STEP_ID.test(id) : !UUID.test(id)) return null;
+	return { kind: kind as HistoryKind, id };
+}
+
+/**
+ * The events of one record's History, as a condition on the trail:
+ * - a work order: its own events, its steps' signatures ("<id>:<step>") and its deviations';
+ * - a step: the work order's events that name the step, the step's signatures, its deviations';
+ * - equipment: its own events and those of every work order on it (the equipment log, MR2);
+ * - a procedure version, an account: the events of that record.
+ */
+export async function recordScope(ref: RecordRef): Promise<SQL | undefined> {
+	const ofWorkOrders = async (ids: string[]) => {
+		if (!ids.length) return [];
+		const devs = await db()
+			.select({ id: deviations.id })
+			.from(deviations)
+			.where(inArray(deviations.workOrderId, ids));
+		return [
+			inArray(auditEvent.entityId, [...ids, ...devs.map((d) => d.id)]),
+			...ids.map((id) => like(auditEvent.entityId, `${id}:%`))
+		];
+	};
+	switch (ref.kind) {
+		case 'work_order':
+			return or(...(await ofWorkOrders([ref.id])));
+		case 'step': {
+			const [workOrderId, key] = ref.id.split(':') as [string, string];
+			const devs = await db()
+				.select({ id: deviations.id })
+				.from(deviations)
+				.where(and(eq(deviations.workOrderId, workOrderId), eq(deviations.stepKey, key)));
+			return or(
+				and(eq(auditEvent.entityId, workOrderId), sql`${auditEvent.newValues}->>'step' = ${key}`),
+				eq(auditEvent.entityId, ref.id),
+				devs.length
+					? inArray(
+							auditEvent.entityId,
+							devs.map((d) => d.id)
+						)
+					: undefined
+			);
+		}
+		case 'equipment': {
+			const orders = await db()
+				.select({ id: workOrders.id })
+				.from(workOrders)
+				.where(eq(workOrders.equipmentId, ref.id));
+			return or(eq(auditEvent.entityId, ref.id), ...(await ofWorkOrders(orders.map((o) => o.id))));
+		}
+		default:
+			return eq(auditEvent.entityId, ref.id);
+	}
+}
 
 /** A refused query as the API's JSON error: the first problem, and the field it is in. */
 export function queryRefusal(error: z.ZodError, known: string[]) {
@@ -84,8 +181,6 @@ export const auditParams = (params: URLSearchParams) =>
 const startOf = (v: string) => new Date(v.length === 10 ? `${v}T00:00:00Z` : v);
 const endOf = (v: string) =>
 	v.length === 10 ? new Date(Date.parse(`${v}T00:00:00Z`) + 86_400_000 - 1) : new Date(v);
-
-const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
 
 /** Escapes LIKE's wildcards so that a search for "50%" finds "50%". */
 const literal = (s: string) => s.replace(/[\\%_]/g, (c) => `\\${c}`);
@@ -160,6 +255,7 @@ export async function browseAudit(q: AuditQuery) {
 			)
 		);
 	}
+	if (q.record) where.push(await recordScope(q.record));
 	if (q.q) {
 		// The expression of the trigram index audit_event_text (migration 0017), searched as a whole.
 		where.push(

@@ -6,7 +6,8 @@ import type { RequestHandler } from './$types';
 /**
  * One page of the audit trail, filtered (8/10): ?from&to (dates or date-times), person (account
  * id), action (exact, or a prefix ending in "."), entityType, equipment (tag), workOrder (number
- * or id), q (free text in reasons and values), order (desc|asc), limit (≤ 200), after (the seq
+ * or id), q (free text in reasons and values), record (one record's History:
+ * <kind>:<id>, as recordScope in audit/browse.ts says), order (desc|asc), limit (≤ 200), after (the seq
  * cursor of the page before). Answers {"events":[…],"next":seq|null}.
  */
 export const GET: RequestHandler = async (event) => {
@@ -23,6 +24,7 @@ export const GET: RequestHandler = async (event) => {
 				'equipment',
 				'workOrder',
 				'q',
+				'record',
 				'order',
 				'limit',
 				'after'

@@ -16,10 +16,20 @@ import { requireRole } from '$lib/server/auth/guard';
 import { db } from '$lib/server/db/index';
 import type { RequestHandler } from './$types';
 
-const filterNames = ['from', 'to', 'person', 'action', 'entityType', 'equipment', 'workOrder', 'q'];
+const filterNames = [
+	'from',
+	'to',
+	'person',
+	'action',
+	'entityType',
+	'equipment',
+	'workOrder',
+	'q',
+	'record'
+];
 
 /**
- * The trail, or a filtered view of it (8/10), as JSON Lines (default) or CSV (?format=csv).
+ * The trail, or a filtered view of it, or one record's History (?record=<kind>:<id>; 8/10), as JSON Lines (default) or CSV (?format=csv).
  * Without filters the JSON Lines are the whole trail in the form of 3/10: its hashed fields under
  * their column names plus prev_hash and hash (hex), which `node scripts/verify-export.mjs FILE`
  * checks without the server. Filters are those of GET /api/v1/audit (paging aside); a filtered
@@ -65,7 +75,12 @@ export const GET: RequestHandler = async (event) => {
 		}
 	});
 	const stamp = new Date().toISOString().slice(0, 10);
-	const name = `countersign-audit-${filtered ? 'view' : 'trail'}-${stamp}.${format}`;
+	const what = parsed.data.record
+		? `history-${parsed.data.record.kind}`
+		: filtered
+			? 'audit-view'
+			: 'audit-trail';
+	const name = `countersign-${what}-${stamp}.${format}`;
 	return new Response(body, {
 		headers: {
 			'content-type':
