@@ -78,6 +78,19 @@ export const auditQuerySchema = z.strictObject({
 });
 export type AuditQuery = z.infer<typeof auditQuerySchema>;
 
+/** The filters of a view (the query's names other than the paging ones). */
+export const auditFilterNames = [
+	'from',
+	'to',
+	'person',
+	'action',
+	'entityType',
+	'equipment',
+	'workOrder',
+	'q',
+	'record'
+] as const;
+
 /** The records that have a History (GLOSSARY): what each one's history holds is recordScope's. */
 export const historyKinds = [
 	'work_order',

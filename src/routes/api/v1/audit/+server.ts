@@ -1,5 +1,11 @@
 import { json } from '@sveltejs/kit';
-import { auditParams, auditQuerySchema, browseAudit, queryRefusal } from '$lib/server/audit/browse';
+import {
+	auditFilterNames,
+	auditParams,
+	auditQuerySchema,
+	browseAudit,
+	queryRefusal
+} from '$lib/server/audit/browse';
 import { requireRole } from '$lib/server/auth/guard';
 import type { RequestHandler } from './$types';
 
@@ -14,22 +20,8 @@ export const GET: RequestHandler = async (event) => {
 	await requireRole(event, 'quality', 'inspector');
 	const parsed = auditQuerySchema.safeParse(auditParams(event.url.searchParams));
 	if (!parsed.success)
-		return json(
-			queryRefusal(parsed.error, [
-				'from',
-				'to',
-				'person',
-				'action',
-				'entityType',
-				'equipment',
-				'workOrder',
-				'q',
-				'record',
-				'order',
-				'limit',
-				'after'
-			]),
-			{ status: 400 }
-		);
+		return json(queryRefusal(parsed.error, [...auditFilterNames, 'order', 'limit', 'after']), {
+			status: 400
+		});
 	return json(await browseAudit(parsed.data), { headers: { 'cache-control': 'no-store' } });
 };

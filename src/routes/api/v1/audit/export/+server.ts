@@ -3,6 +3,7 @@ import { stringify } from 'csv-stringify/sync';
 import { recordEventNow } from '$lib/server/audit/now';
 import { exportLines } from '$lib/server/audit/export';
 import {
+	auditFilterNames,
 	auditParams,
 	auditQuerySchema,
 	csvCell,
@@ -15,18 +16,6 @@ import {
 import { requireRole } from '$lib/server/auth/guard';
 import { db } from '$lib/server/db/index';
 import type { RequestHandler } from './$types';
-
-const filterNames = [
-	'from',
-	'to',
-	'person',
-	'action',
-	'entityType',
-	'equipment',
-	'workOrder',
-	'q',
-	'record'
-];
 
 /**
  * The trail, or a filtered view of it, or one record's History (?record=<kind>:<id>; 8/10), as JSON Lines (default) or CSV (?format=csv).
@@ -50,9 +39,9 @@ export const GET: RequestHandler = async (event) => {
 		return json({ message: 'format is jsonl or csv.', field: 'format' }, { status: 400 });
 	const parsed = auditQuerySchema.safeParse(params);
 	if (!parsed.success)
-		return json(queryRefusal(parsed.error, ['format', ...filterNames]), { status: 400 });
+		return json(queryRefusal(parsed.error, ['format', ...auditFilterNames]), { status: 400 });
 	const filters: Partial<AuditQuery> = Object.fromEntries(
-		filterNames.filter((k) => k in params).map((k) => [k, parsed.data[k as keyof AuditQuery]])
+		auditFilterNames.filter((k) => k in params).map((k) => [k, parsed.data[k as keyof AuditQuery]])
 	);
 	const filtered = Object.keys(filters).length > 0;
 	const { seq } = await recordEventNow({
