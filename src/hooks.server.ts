@@ -7,6 +7,7 @@ import { closeDatabase } from '$lib/server/db/index';
 import { log } from '$lib/server/log';
 import { startCheckpointWorker, stopCheckpointWorker } from '$lib/server/audit/checkpoints';
 import { startOutboxWorker, stopOutboxWorker } from '$lib/server/outbox';
+import { startPmScheduler, stopPmScheduler } from '$lib/server/pm';
 import '$lib/server/pdf/index'; // registers the released-record job of the outbox
 import { env } from '$env/dynamic/private';
 
@@ -15,6 +16,7 @@ export const init: ServerInit = async () => {
 	// would otherwise keep the process alive.
 	process.once('sveltekit:shutdown', async (reason: string) => {
 		stopCheckpointWorker();
+		stopPmScheduler();
 		await stopOutboxWorker();
 		await closeDatabase();
 		log.info('server stopped', { reason });
@@ -25,6 +27,8 @@ export const init: ServerInit = async () => {
 		// Audit checkpoints every 1,000 events (8/10), looked for once a minute.
 		startCheckpointWorker(Number(env.CHECKPOINT_INTERVAL_MS ?? 60_000));
 	}
+	// The PM scheduler (9/10): work orders that fall within their lead time, every 15 minutes.
+	if (env.PM_SCHEDULER !== 'off') startPmScheduler(Number(env.PM_SCHEDULER_INTERVAL_MS ?? 900_000));
 };
 
 const MAX_BODY = 1024 * 1024;

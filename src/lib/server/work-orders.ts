@@ -663,6 +663,8 @@ export type NewWorkOrder = {
 	assignees: string[];
 	notes: string;
 	followsUp?: string | null;
+	/** Made by a PM schedule (9/10): the schedule and its basis (the unique key of one due date). */
+	pm?: { scheduleId: string; basis: string } | null;
 };
 
 /** Technicians who may be assigned: active accounts holding the technician role. */
@@ -753,7 +755,8 @@ export async function createWorkOrder(
 				priority: input.priority,
 				assignees: input.assignees,
 				notes: input.notes,
-				followsUp: input.followsUp ?? null
+				followsUp: input.followsUp ?? null,
+				...(input.pm ? { pmSchedule: input.pm.scheduleId, pmBasis: input.pm.basis } : {})
 			},
 			clientAddress
 		});
@@ -765,6 +768,8 @@ export async function createWorkOrder(
 			equipmentId: input.equipmentId,
 			procedureVersionId: effective.id,
 			followsUp: input.followsUp ?? null,
+			pmScheduleId: input.pm?.scheduleId ?? null,
+			pmBasis: input.pm?.basis ?? null,
 			...rec
 		});
 		await tx.insert(workOrderPlans).values({

@@ -4,5 +4,6 @@ export * from './audit';
 export * from './plant';
 export * from './signatures';
 export * from './master';
+export * from './pm';
 export * from './work';
 export * from './outbox';

@@ -12,6 +12,7 @@ import {
 	text,
 	timestamp,
 	unique,
+	uniqueIndex,
 	uuid
 } from 'drizzle-orm/pg-core';
 import type { EntryValue } from '../../../work';
@@ -19,6 +20,7 @@ import { accounts } from './accounts';
 import { recorded } from './columns';
 import { equipment, instruments, partLots, procedureVersions } from './master';
 import { sites } from './plant';
+import { pmSchedules } from './pm';
 import { signatures } from './signatures';
 
 /**
@@ -47,11 +49,23 @@ export const workOrders = pgTable(
 			.references(() => procedureVersions.id),
 		/** The work order this one follows up (for example the re-tightening after a diaphragm change). */
 		followsUp: uuid('follows_up'),
+		/** The PM schedule that made it (9/10), and what its due date counted from. */
+		pmScheduleId: uuid('pm_schedule_id').references(() => pmSchedules.id),
+		/**
+		 * The schedule's basis for this work order: the id of the released work order it counts
+		 * from (or "start"), and how many made on that basis were cancelled ("<basis>#<n>"). With the
+		 * unique index below, however many scheduler runs there are, one work order per due date.
+		 */
+		pmBasis: text('pm_basis'),
 		...recorded()
 	},
 	(t) => [
 		index('work_orders_equipment').on(t.equipmentId),
-		check('work_orders_kind', sql`${t.kind} in ('preventive', 'corrective', 'follow_up')`)
+		check('work_orders_kind', sql`${t.kind} in ('preventive', 'corrective', 'follow_up')`),
+		check('work_orders_pm_basis', sql`(${t.pmScheduleId} is null) = (${t.pmBasis} is null)`),
+		uniqueIndex('work_orders_pm_once')
+			.on(t.pmScheduleId, t.equipmentId, t.pmBasis)
+			.where(sql`${t.pmScheduleId} is not null`)
 	]
 );
 
