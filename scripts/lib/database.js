@@ -64,7 +64,8 @@ export async function runSeed(ownerUrl, appUrl) {
 	const demo = await tsImport('../../src/lib/server/db/demo/index.ts', import.meta.url);
 	try {
 		const master = await demo.seedDemoMasterData(DEMO_PASSWORD);
-		return { ...added, ...master, work: await demo.seedDemoWork(DEMO_PASSWORD) };
+		const work = await demo.seedDemoWork(DEMO_PASSWORD);
+		return { ...added, ...master, work, ...(await demo.seedDemoSchedules()) };
 	} finally {
 		// Through the same module copy as the seed (each tsImport loads its own copy, and pool).
 		await demo.closeDatabase();

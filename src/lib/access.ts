@@ -62,6 +62,8 @@ export const routeAccess = {
 	'/(app)/procedures/versions/[id=uuid]': readers,
 	'/(app)/procedures/versions/[id=uuid]/edit': planners,
 	'/(app)/qualifications': readers,
+	'/(app)/pm': readers,
+	'/(app)/pm/new': planners,
 	'/(app)/work': readers,
 	'/(app)/work/new': planners,
 	'/(app)/work/[id=uuid]': readers,

@@ -8,6 +8,7 @@ type NavHref = Extract<
 	Pathname,
 	| '/'
 	| '/work'
+	| '/pm'
 	| '/plant'
 	| '/procedures'
 	| '/instruments'
@@ -22,6 +23,7 @@ export type NavItem = { href: NavHref; label: string; route: keyof typeof routeA
 const items: NavItem[] = [
 	{ href: '/', label: 'Waiting for me', route: '/(app)' },
 	{ href: '/work', label: 'Work', route: '/(app)/work' },
+	{ href: '/pm', label: 'PM schedules', route: '/(app)/pm' },
 	{ href: '/plant', label: 'Plant', route: '/(app)/plant' },
 	{ href: '/procedures', label: 'Procedures', route: '/(app)/procedures' },
 	{ href: '/instruments', label: 'Instruments', route: '/(app)/instruments' },

@@ -17,16 +17,16 @@ import {
 const master = ['Plant', 'Procedures', 'Instruments', 'Parts and lots', 'Qualifications'];
 const pagesByRole: Record<string, { sees: string[]; forbidden: string[] }> = {
 	tech1: {
-		sees: ['Waiting for me', 'Work', ...master],
+		sees: ['Waiting for me', 'Work', 'PM schedules', ...master],
 		forbidden: ['/people', '/audit', '/plant/new', '/work/new']
 	},
-	planner: { sees: ['Waiting for me', 'Work', ...master], forbidden: ['/people'] },
+	planner: { sees: ['Waiting for me', 'Work', 'PM schedules', ...master], forbidden: ['/people'] },
 	quality: {
-		sees: ['Waiting for me', 'Work', ...master, 'Audit trail', 'Access review'],
+		sees: ['Waiting for me', 'Work', 'PM schedules', ...master, 'Audit trail', 'Access review'],
 		forbidden: ['/people', '/procedures/new', '/work/new']
 	},
 	inspector: {
-		sees: ['Waiting for me', 'Work', ...master, 'Audit trail', 'Access review'],
+		sees: ['Waiting for me', 'Work', 'PM schedules', ...master, 'Audit trail', 'Access review'],
 		forbidden: ['/people', '/people/new', '/instruments/new', '/work/new']
 	},
 	admin: {

@@ -5,6 +5,7 @@ import { seedDemoMasterData } from '../../src/lib/server/db/demo/index';
 import { seedDemoWork, type WorkSeedResult } from '../../src/lib/server/db/demo/work';
 import { DEMO_PASSWORD, seedDemoAccounts, seedDemoPlant } from '../../src/lib/server/db/seed';
 import { currentSite } from '../../src/lib/server/plant';
+import * as procedures from '../../src/lib/server/procedures';
 import * as work from '../../src/lib/server/work-orders';
 import { appDatabase, setEnv } from './helpers/app-database';
 
@@ -34,6 +35,19 @@ beforeAll(async () => {
 	siteId = (await currentSite())!.id;
 });
 afterAll(async () => t?.drop());
+
+describe('the demo procedures', () => {
+	it('each has its own effective version: one procedure’s version 2 does not supersede another’s version 1 (MR1)', async () => {
+		const list = await procedures.listProcedures(siteId);
+		const rows = await t.ownerSql`select p.code, max(v.version)::int as version
+			from procedures p join procedure_versions v on v.procedure_id = p.id
+			join procedure_approvals a on a.version_id = v.id group by p.code order by p.code`;
+		expect(list.map((p) => [p.code, p.effectiveVersion])).toEqual(
+			rows.map((r) => [r.code, r.version])
+		);
+		expect(new Set(list.map((p) => p.effectiveVersion))).toEqual(new Set([1, 2]));
+	});
+});
 
 const byTag = async (tag: string) => {
 	const found = (await work.listWorkOrders(siteId)).filter((w) => w.tag === tag);

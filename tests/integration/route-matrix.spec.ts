@@ -80,6 +80,8 @@ const paths = (): Record<string, string> => ({
 	// An approved version: its editor answers 409 to a Planner (allowed, but nothing to edit).
 	'/(app)/procedures/versions/[id=uuid]/edit': `/procedures/versions/${ids.version}/edit`,
 	'/(app)/qualifications': '/qualifications',
+	'/(app)/pm': '/pm',
+	'/(app)/pm/new': '/pm/new',
 	'/(app)/work': '/work',
 	'/(app)/work/new': '/work/new',
 	'/(app)/work/[id=uuid]': `/work/${ids.workOrder}`,

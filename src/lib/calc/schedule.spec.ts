@@ -5,6 +5,9 @@ import {
 	daysBetween,
 	dueStatus,
 	isDay,
+	isoWeek,
+	mondayOf,
+	projectUsageDay,
 	startOfLocalDay,
 	type ScheduleRule
 } from './schedule';
@@ -168,5 +171,25 @@ describe('whichever comes first, with lead time and grace window', () => {
 		refused(addInterval('2026-01-01', { every: 1.5, unit: 'month' }));
 		refused(addInterval('9999-12-01', { every: 1, unit: 'month' }));
 		expect(startOfLocalDay('2026-13-01', 'Europe/Berlin')).toBeNull();
+	});
+});
+
+describe('weeks for the 12-week calendar (ISO 8601 week dates)', () => {
+	// ISO 8601-1:2019 §5.2.4.3: week 1 is the week with the year's first Thursday; weeks start on Monday.
+	it('New Year belongs to the week of its Thursday', () => {
+		expect(isoWeek('2026-12-31')).toEqual({ year: 2026, week: 53 }); // 2026 starts on a Thursday
+		expect(isoWeek('2027-01-03')).toEqual({ year: 2026, week: 53 });
+		expect(isoWeek('2027-01-04')).toEqual({ year: 2027, week: 1 });
+		expect(isoWeek('2024-12-30')).toEqual({ year: 2025, week: 1 });
+		expect(isoWeek('2026-12-02')).toEqual({ year: 2026, week: 49 });
+		expect(mondayOf('2026-12-06')).toBe('2026-11-30');
+		expect(mondayOf('2026-11-30')).toBe('2026-11-30');
+	});
+
+	it('a usage limit is projected at the recent rate, never later than the rate says', () => {
+		expect(projectUsageDay('2026-12-01', 450, 500, 2)).toBe('2026-12-26');
+		expect(projectUsageDay('2026-12-01', 450, 500, 3)).toBe('2026-12-17'); // 16.7 days → 16
+		expect(projectUsageDay('2026-12-01', 510, 500, 3)).toBe('2026-12-01');
+		expect(projectUsageDay('2026-12-01', 450, 500, 0)).toBeNull();
 	});
 });

@@ -201,3 +201,40 @@ export function dueStatus(
 
 /** Today at the site (re-exported for the scheduler, so it reads one clock through one function). */
 export { siteToday };
+
+/** 1 for Monday … 7 for Sunday (ISO 8601) of a local date. */
+export function isoWeekday(day: string): number {
+	const d = new Date(`${day}T00:00:00Z`).getUTCDay();
+	return d === 0 ? 7 : d;
+}
+
+/** The Monday of the ISO week a local date is in. */
+export const mondayOf = (day: string) => addDays(day, 1 - isoWeekday(day));
+
+/**
+ * The ISO 8601 week of a local date: the week with the year's first Thursday is week 1, so the
+ * days around New Year may belong to the other year's week (2027-01-01 is in 2026-W53).
+ */
+export function isoWeek(day: string): { year: number; week: number } {
+	const thursday = addDays(day, 4 - isoWeekday(day));
+	const year = Number(thursday.slice(0, 4));
+	const week = Math.floor(daysBetween(`${year}-01-01`, thursday) / 7) + 1;
+	return { year, week };
+}
+
+/**
+ * The local date on which a usage limit is expected to be reached at the recent rate of use
+ * (per day), or null when there is no use to project from. Rounded down: never later than the
+ * rate says.
+ */
+export function projectUsageDay(
+	today: string,
+	usageNow: number,
+	dueAt: number,
+	perDay: number
+): string | null {
+	if (!(Number.isFinite(perDay) && perDay > 0) || !Number.isFinite(usageNow)) return null;
+	if (usageNow >= dueAt) return today;
+	const days = Math.floor((dueAt - usageNow) / perDay);
+	return days > 36_500 ? null : addDays(today, days);
+}

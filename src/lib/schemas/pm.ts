@@ -23,7 +23,7 @@ const amount = (what: string) =>
 		.min(0, `${what} is 0 or more.`)
 		.max(1_000_000, `${what} is at most 1,000,000.`);
 
-export const pmScheduleSchema = z
+export const pmScheduleFormSchema = z
 	.object({
 		title: z
 			.string()
@@ -77,13 +77,15 @@ export const pmScheduleSchema = z
 			);
 		if (v.usageLimit !== null && v.leadUsage >= v.usageLimit)
 			need('leadUsage', 'The usage lead must be less than the usage limit.');
-	})
-	.transform((v) => ({
-		...v,
-		// The target not chosen is dropped, so that a stored version names one kind of target.
-		equipmentId: v.target === 'equipment' ? v.equipmentId : null,
-		areaId: v.target === 'class' ? v.areaId : null,
-		equipmentClass: v.target === 'class' ? v.equipmentClass : null
-	}));
+	});
+
+/** The form's values as stored: the target not chosen is dropped. */
+export const pmScheduleSchema = pmScheduleFormSchema.transform((v) => ({
+	...v,
+	// The target not chosen is dropped, so that a stored version names one kind of target.
+	equipmentId: v.target === 'equipment' ? v.equipmentId : null,
+	areaId: v.target === 'class' ? v.areaId : null,
+	equipmentClass: v.target === 'class' ? v.equipmentClass : null
+}));
 export type PmScheduleInput = z.input<typeof pmScheduleSchema>;
 export type PmSchedule = z.output<typeof pmScheduleSchema>;

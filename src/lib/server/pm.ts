@@ -1,7 +1,7 @@
 import { and, asc, desc, eq, inArray, like, lte, sql } from 'drizzle-orm';
 import { randomUUID } from 'node:crypto';
 import { siteToday } from '$lib/fitness';
-import { dueStatus, type Due, type ScheduleRule } from '$lib/calc/schedule';
+import { dueStatus, projectUsageDay, type Due, type ScheduleRule } from '$lib/calc/schedule';
 import { pmScheduleSchema, type PmScheduleInput } from '$lib/schemas/pm';
 import { db } from './db/index';
 import {
@@ -253,7 +253,28 @@ export type TargetStatus = {
 	key: string;
 	/** The open or released work order made for this due date, if any. */
 	made: { id: string; number: string } | null;
+	/** Usage per day over the last 90 days (for the projection), or 0. */
+	perDay: number;
+	/** When the usage limit is expected to be reached at that rate, or null. */
+	projectedOn: string | null;
+	/** The next date the work falls due: the earlier of the calendar's and the projection's. */
+	nextOn: string | null;
 };
+
+/** How much usage the last `days` days added (by when it happened). */
+async function recentUsage(equipmentId: string, kind: string, days: number) {
+	const [row] = await db()
+		.select({ total: sql<number>`coalesce(sum(${equipmentUsage.amount}), 0)::float8` })
+		.from(equipmentUsage)
+		.where(
+			and(
+				eq(equipmentUsage.equipmentId, equipmentId),
+				eq(equipmentUsage.kind, kind),
+				sql`${equipmentUsage.occurredAt} > now() - make_interval(days => ${days})`
+			)
+		);
+	return Number(row?.total ?? 0);
+}
 
 /** Where a schedule stands for one piece of equipment on the site's `today`. */
 async function statusFor(
@@ -330,7 +351,17 @@ async function statusFor(
 			undefined,
 			409
 		);
+	const perDay = rule.usage ? (await recentUsage(target.id, usageKind, 90)) / 90 : 0;
+	const projectedOn =
+		due.value.dueAtUsage === null
+			? null
+			: projectUsageDay(today, usageNow, due.value.dueAtUsage, perDay);
+	const nextOn =
+		[due.value.dueOn, projectedOn].filter((d): d is string => d !== null).sort()[0] ?? null;
 	return {
+		perDay,
+		projectedOn,
+		nextOn,
 		equipmentId: target.id,
 		tag: target.tag,
 		basisWorkOrder: released?.id ?? null,

@@ -107,7 +107,16 @@ export async function listProcedures(siteId: string) {
 					)
 				)
 		: [];
-	const status = statuses(versions, approvals);
+	// Each procedure's versions on their own: the newest approved version of one procedure does
+	// not supersede another's.
+	const status = new Map(
+		all.flatMap((p) => [
+			...statuses(
+				versions.filter((v) => v.procedureId === p.id),
+				approvals
+			)
+		])
+	);
 	const revisions = await latestRevisions(
 		db(),
 		versions.map((v) => v.id)

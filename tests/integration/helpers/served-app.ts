@@ -23,6 +23,8 @@ export async function serveBuiltApp(
 				ORIGIN: origin,
 				AUTH_SECRET: 'integration-test-secret-0123456789abcdef',
 				AUTH_DELAY_FREE_PER_ADDRESS: '1000',
+				// Tests run the PM scheduler themselves (tests/integration/pm.spec.ts), when they mean to.
+				PM_SCHEDULER: 'off',
 				...extraEnv
 			},
 			stdio: ['ignore', 'ignore', 'pipe']

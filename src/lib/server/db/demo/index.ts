@@ -20,6 +20,7 @@ import {
 	sealInspection
 } from './procedures';
 export { seedDemoWork, type WorkSeedResult } from './work';
+export { seedDemoSchedules } from './schedules';
 export { closeDatabase } from '../index';
 
 /**
