@@ -11,6 +11,8 @@ declare global {
 			user: import('$lib/server/auth/guard').User | null;
 			/** Set by hooks.server.ts for every request; carried into logs. */
 			requestId: string;
+			/** The plant system's API token, on the token-only routes (9/10; guard.ts). */
+			token?: import('$lib/server/api-tokens').TokenActor;
 			/** Set by handleError so that API responses can carry the same id. */
 			errorId?: string;
 		}

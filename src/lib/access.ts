@@ -9,9 +9,10 @@ import type { Role } from './roles';
  * - public: anyone, signed in or not
  * - signed-in: any signed-in person, whatever their roles
  * - a list of roles: a signed-in person holding at least one of them
+ * - token:usage: a plant system's API token of that scope (never a session), checked first
  * Actions and endpoints check again with requireRole() for what they do.
  */
-export type Access = 'public' | 'signed-in' | readonly Role[];
+export type Access = 'public' | 'signed-in' | 'token:usage' | readonly Role[];
 
 const readers: readonly Role[] = ['technician', 'planner', 'quality', 'inspector'];
 const administrators: readonly Role[] = ['administrator'];
@@ -75,6 +76,9 @@ export const routeAccess = {
 	'/(app)/work/[id=uuid]/evidence/[evidence=uuid]': readers,
 	'/(app)/work/[id=uuid]/steps/[key=stepkey]': technicians,
 	'/api/v1/queues': 'signed-in',
+	'/api/v1/equipment': 'public',
+	'/api/v1/equipment/[tag]': 'public',
+	'/api/v1/equipment/[tag]/usage': 'token:usage',
 	'/(app)/people': administrators,
 	'/(app)/people/new': administrators,
 	'/(app)/people/[id=uuid]': administrators
@@ -82,6 +86,7 @@ export const routeAccess = {
 
 export function mayAccess(access: Access, roles: readonly Role[] | undefined, signedIn: boolean) {
 	if (access === 'public') return true;
+	if (access === 'token:usage') return false; // a token, checked by the guard, never a person
 	if (!signedIn) return false;
 	if (access === 'signed-in') return true;
 	return (roles ?? []).some((role) => access.includes(role));

@@ -94,6 +94,8 @@ const paths = (): Record<string, string> => ({
 	'/(app)/verify': `/verify?record=${'0'.repeat(64)}`,
 	'/(app)/work/[id=uuid]/evidence/[evidence=uuid]': `/work/${ids.workOrder}/evidence/00000000-0000-4000-8000-000000000000`,
 	'/api/v1/queues': '/api/v1/queues',
+	// Token only (9/10): 401 JSON to every person, signed in or not.
+	'/api/v1/equipment/[tag]/usage': '/api/v1/equipment/XV-3104/usage',
 	'/(app)/people': '/people',
 	'/(app)/people/new': '/people/new',
 	'/(app)/people/[id=uuid]': `/people/${someAccountId}`,
@@ -121,7 +123,9 @@ const layoutsOnly = [
 	'/(app)/procedures/versions',
 	'/(app)/work/[id=uuid]/steps',
 	'/(app)/history',
-	'/(app)/history/[kind=historykind]'
+	'/(app)/history/[kind=historykind]',
+	'/api/v1/equipment',
+	'/api/v1/equipment/[tag]'
 ];
 
 const get = (path: string, cookie?: string) =>
@@ -146,7 +150,10 @@ describe('role × route matrix', () => {
 				const response = await get(path, cookie);
 				const allowed = mayAccess(access, person.roles, Boolean(cookie));
 				const where = `${person.name} GET ${path} (${routeId})`;
-				if (allowed) {
+				if (access === 'token:usage') {
+					expect(response.status, where).toBe(401);
+					expect((await response.json()).message, where).toMatch(/Bearer/);
+				} else if (allowed) {
 					expect([401, 403], where).not.toContain(response.status);
 					expect(response.status, where).toBeLessThan(500);
 				} else if (!cookie && path.startsWith('/api/')) {
@@ -191,7 +198,7 @@ describe('role × route matrix', () => {
 		const changes = async () =>
 			(
 				await t.ownerSql`select count(*)::int as n from audit_event
-					where action not in ('auth.access_denied', 'signature.refused')`
+					where action not in ('auth.access_denied', 'signature.refused', 'api_token.refused')`
 			)[0]!.n as number;
 		const before = await changes();
 		const refused: string[] = [];
@@ -214,7 +221,10 @@ describe('role × route matrix', () => {
 					reason: 'an inspector tries'
 				})
 			});
-			if (response.status !== 403) refused.push(`${w.method} ${url}: ${response.status}`);
+			// A token-only route refuses every session with 401 (no token), before anything else.
+			const expected =
+				routeAccess[w.routeId as keyof typeof routeAccess] === 'token:usage' ? 401 : 403;
+			if (response.status !== expected) refused.push(`${w.method} ${url}: ${response.status}`);
 		}
 		expect(refused).toEqual([]);
 		expect(await changes()).toBe(before);

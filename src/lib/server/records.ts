@@ -24,7 +24,8 @@ export class RecordError extends Error {
 }
 
 /** Who records: a signed-in person, or a system job (the demo seed, the PM scheduler of 9/10). */
-export type Recorder = Extract<Actor, { kind: 'person' } | { kind: 'system' }>;
+/** …or a plant system's API token (9/10: usage reports). */
+export type Recorder = Extract<Actor, { kind: 'person' } | { kind: 'system' } | { kind: 'token' }>;
 
 export const personOf = (user: User): Recorder => ({
 	kind: 'person',
@@ -75,7 +76,7 @@ export async function appendRecordEvent(
 	const event = await recordEvent(tx, { ...input, actor: by });
 	return {
 		recordedBy: by.kind === 'person' ? by.id : null,
-		recordedByName: by.kind === 'person' ? by.name : `system: ${by.name}`,
+		recordedByName: by.kind === 'person' ? by.name : `${by.kind}: ${by.name}`,
 		recordedAt: new Date(event.at),
 		auditSeq: event.seq
 	};

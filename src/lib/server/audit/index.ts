@@ -8,7 +8,9 @@ import { chainHash, type ChainFields } from './chain';
 export type Actor =
 	| { kind: 'person'; id: string; name: string; roles: readonly Role[] }
 	| { kind: 'system'; name: string }
-	| { kind: 'anonymous' };
+	| { kind: 'anonymous' }
+	/** A plant system's API token (9/10): its id and its name. */
+	| { kind: 'token'; id: string; name: string };
 
 export type AuditInput = {
 	actor: Actor;
@@ -59,7 +61,7 @@ export async function recordEvent(tx: Transaction, input: AuditInput) {
 		seq: Number(head.seq) + 1,
 		at: new Date(head.now).toISOString(),
 		actor_kind: actor.kind,
-		actor_id: actor.kind === 'person' ? actor.id : null,
+		actor_id: actor.kind === 'person' || actor.kind === 'token' ? actor.id : null,
 		actor_name: actor.kind === 'anonymous' ? 'unknown' : actor.name,
 		actor_roles: actor.kind === 'person' ? [...actor.roles] : [],
 		action: input.action,

@@ -1,6 +1,7 @@
 import { error, json, redirect, type Handle, type RequestEvent } from '@sveltejs/kit';
 import { mayAccess, routeAccess, type Access } from '$lib/access';
 import type { Role } from '$lib/roles';
+import { checkBearer } from '../api-tokens';
 import { recordEventNow } from '../audit/now';
 
 export type User = {
@@ -37,6 +38,21 @@ async function recordDenied(event: RequestEvent, user: User, needed: Access | st
 export const guard: Handle = async ({ event, resolve }) => {
 	const routeId = event.route.id;
 	if (routeId === '/api/v1/health') return resolve(event);
+
+	// The plant API (9/10): the token first, whatever the path or the body, before any session.
+	if (
+		(routeId && routeAccess[routeId as keyof typeof routeAccess] === 'token:usage') ||
+		event.url.pathname.startsWith('/api/v1/equipment/')
+	) {
+		const checked = await checkBearer(event.request.headers.get('authorization'), 'usage', {
+			method: event.request.method,
+			path: event.url.pathname,
+			clientAddress: event.getClientAddress()
+		});
+		if (!checked.ok) return json({ message: checked.message }, { status: checked.status });
+		event.locals.token = checked.actor;
+		return resolve(event);
+	}
 
 	const session = await event.locals.auth();
 	const user = session?.user?.id ? (session.user as unknown as User) : null;

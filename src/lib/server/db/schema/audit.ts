@@ -15,7 +15,7 @@ export const auditEvent = pgTable(
 		seq: bigint('seq', { mode: 'number' }).primaryKey(),
 		/** The database clock when the event was appended, millisecond precision (exact in JavaScript). */
 		at: timestamp('at', { withTimezone: true, precision: 3 }).notNull(),
-		/** person · system · anonymous (a sign-in attempt nobody could be matched to) */
+		/** person · system · anonymous (a sign-in attempt nobody could be matched to) · token (a plant system's API token, 9/10) */
 		actorKind: text('actor_kind').notNull(),
 		actorId: text('actor_id'),
 		/** The printed name at that time (an account's full name may change later). */
@@ -34,7 +34,10 @@ export const auditEvent = pgTable(
 	},
 	(t) => [
 		check('audit_event_action_form', sql`${t.action} ~ '^[a-z][a-z_]*(\\.[a-z][a-z_]*)+$'`),
-		check('audit_event_actor_kind', sql`${t.actorKind} in ('person', 'system', 'anonymous')`),
+		check(
+			'audit_event_actor_kind',
+			sql`${t.actorKind} in ('person', 'system', 'anonymous', 'token')`
+		),
 		check('audit_event_seq_positive', sql`${t.seq} > 0`),
 		check(
 			'audit_event_hash_length',

@@ -7,3 +7,4 @@ export * from './master';
 export * from './pm';
 export * from './work';
 export * from './outbox';
+export * from './api';
