@@ -38,8 +38,12 @@ test('an inspector filters the trail to one work order, opens an event, pages, c
 	await page.getByRole('button', { name: 'Apply the filters' }).click();
 	await expect(page).toHaveURL(new RegExp(`workOrder=${number}`));
 	await expect(list.getByRole('listitem').first()).toBeVisible();
-	// Every event shown is of that work order (its id, or one of its steps).
+	// Every event shown is of that work order (its id, or one of its steps) once the filtered view
+	// has arrived (until then the unfiltered list is still shown: this waits for it).
 	const entries = list.getByRole('listitem');
+	await expect(
+		entries.filter({ hasNotText: /work_order|signature|deviation|evidence|equipment/ })
+	).toHaveCount(0);
 	const n = await entries.count();
 	expect(n).toBeGreaterThan(5);
 	for (const text of await entries.allTextContents())
