@@ -81,6 +81,7 @@ export const routeAccess = {
 	'/api/v1/equipment/[tag]/usage': 'token:usage',
 	'/(app)/people': administrators,
 	'/(app)/people/new': administrators,
+	'/(app)/people/tokens': administrators,
 	'/(app)/people/[id=uuid]': administrators
 } as const satisfies Record<RouteId, Access>;
 

@@ -98,6 +98,7 @@ const paths = (): Record<string, string> => ({
 	'/api/v1/equipment/[tag]/usage': '/api/v1/equipment/XV-3104/usage',
 	'/(app)/people': '/people',
 	'/(app)/people/new': '/people/new',
+	'/(app)/people/tokens': '/people/tokens',
 	'/(app)/people/[id=uuid]': `/people/${someAccountId}`,
 	'/login': '/login',
 	'/logout': '/logout',

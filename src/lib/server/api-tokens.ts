@@ -132,3 +132,27 @@ export async function checkBearer(
 		return refused(403, `This API token is not for ${scope} reports.`, 'scope', row);
 	return { ok: true, actor: { kind: 'token', id: row.id, name: row.name }, scope };
 }
+
+/** Every token with who made it, when, and whether (and why) it was revoked; never the token. */
+export async function listApiTokens() {
+	const rows = await db()
+		.select({
+			id: apiTokens.id,
+			name: apiTokens.name,
+			scope: apiTokens.scope,
+			prefix: apiTokens.prefix,
+			createdBy: apiTokens.recordedByName,
+			createdAt: apiTokens.recordedAt,
+			revokedAt: apiTokenRevocations.recordedAt,
+			revokedBy: apiTokenRevocations.recordedByName,
+			revokeReason: apiTokenRevocations.reason
+		})
+		.from(apiTokens)
+		.leftJoin(apiTokenRevocations, eq(apiTokenRevocations.tokenId, apiTokens.id))
+		.orderBy(apiTokens.recordedAt);
+	return rows.map((r) => ({
+		...r,
+		createdAt: r.createdAt.toISOString(),
+		revokedAt: r.revokedAt?.toISOString() ?? null
+	}));
+}
