@@ -1,4 +1,4 @@
-import { addDays, siteToday } from '../fitness';
+import { addDays } from '../fitness';
 import { fromLocalInput } from '../time';
 import { ok, refuse, type Calc } from './result';
 
@@ -198,9 +198,6 @@ export function dueStatus(
 		generateNow: state !== 'not_due'
 	});
 }
-
-/** Today at the site (re-exported for the scheduler, so it reads one clock through one function). */
-export { siteToday };
 
 /** 1 for Monday … 7 for Sunday (ISO 8601) of a local date. */
 export function isoWeekday(day: string): number {

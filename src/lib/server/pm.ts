@@ -15,8 +15,7 @@ import {
 	workOrderTransitions
 } from './db/schema/index';
 import { log } from './log';
-import { currentSite } from './plant';
-import { appendRecordEvent, mustHold, RecordError, type Recorder } from './records';
+import { appendRecordEvent, mustHold, RecordError, siteOrFail, type Recorder } from './records';
 import { createWorkOrder } from './work-orders';
 
 /**
@@ -28,12 +27,6 @@ import { createWorkOrder } from './work-orders';
 export const PM_SCHEDULER: Recorder = { kind: 'system', name: 'PM scheduler' };
 
 type VersionRow = typeof pmScheduleVersions.$inferSelect;
-
-async function siteOrFail() {
-	const site = await currentSite();
-	if (!site) throw new RecordError('The site is not set up.', undefined, 409);
-	return site;
-}
 
 function parseSchedule(input: PmScheduleInput) {
 	const parsed = pmScheduleSchema.safeParse(input);
@@ -169,15 +162,18 @@ export async function changeSchedule(
 /** Each schedule's current version. */
 async function currentVersions(siteId: string) {
 	const rows = await db()
-		.select({ v: pmScheduleVersions })
+		.select({ v: pmScheduleVersions, createdSeq: pmSchedules.auditSeq })
 		.from(pmScheduleVersions)
 		.innerJoin(pmSchedules, eq(pmSchedules.id, pmScheduleVersions.scheduleId))
 		.where(eq(pmSchedules.siteId, siteId))
 		.orderBy(asc(pmScheduleVersions.scheduleId), desc(pmScheduleVersions.version));
-	const latest = new Map<string, VersionRow>();
-	for (const { v } of rows) if (!latest.has(v.scheduleId)) latest.set(v.scheduleId, v);
+	const latest = new Map<string, CurrentVersion>();
+	for (const { v, createdSeq } of rows)
+		if (!latest.has(v.scheduleId)) latest.set(v.scheduleId, { ...v, createdSeq });
 	return [...latest.values()];
 }
+/** A schedule's current version, with the seq of the schedule's creation (its first basis). */
+type CurrentVersion = VersionRow & { createdSeq: number };
 
 export const ruleOf = (v: VersionRow): ScheduleRule => ({
 	calendar:
@@ -195,7 +191,7 @@ export const ruleOf = (v: VersionRow): ScheduleRule => ({
 });
 
 /** The equipment a version covers: its one piece, or every piece whose current version is of the class in the area. */
-async function targetsOf(v: VersionRow) {
+async function targetsOf(v: VersionRow, siteId: string) {
 	if (v.equipmentId) {
 		const [e] = await db()
 			.select({ id: equipment.id, tag: equipment.tag })
@@ -213,7 +209,7 @@ async function targetsOf(v: VersionRow) {
 		})
 		.from(equipmentVersions)
 		.innerJoin(equipment, eq(equipment.id, equipmentVersions.equipmentId))
-		.where(eq(equipment.siteId, (await siteOrFail()).id))
+		.where(eq(equipment.siteId, siteId))
 		.orderBy(asc(equipment.tag), desc(equipmentVersions.version));
 	const seen = new Set<string>();
 	const out: { id: string; tag: string }[] = [];
@@ -278,7 +274,7 @@ async function recentUsage(equipmentId: string, kind: string, days: number) {
 
 /** Where a schedule stands for one piece of equipment on the site's `today`. */
 async function statusFor(
-	v: VersionRow,
+	v: CurrentVersion,
 	target: { id: string; tag: string },
 	today: string,
 	timeZone: string
@@ -302,13 +298,9 @@ async function statusFor(
 		)
 		.orderBy(desc(workOrderTransitions.auditSeq))
 		.limit(1);
-	const [created] = await db()
-		.select({ seq: pmSchedules.auditSeq })
-		.from(pmSchedules)
-		.where(eq(pmSchedules.id, v.scheduleId));
 	const basisId = released?.id ?? 'start';
 	const basisDay = released ? siteToday(timeZone, released.at) : v.startsOn;
-	const basisUsage = await usageUpTo(target.id, usageKind, released?.seq ?? created!.seq);
+	const basisUsage = await usageUpTo(target.id, usageKind, released?.seq ?? v.createdSeq);
 	const usageNow = await usageUpTo(target.id, usageKind);
 	// Work orders already made on this basis; a cancelled one lets the next be made.
 	const made = await db()
@@ -392,7 +384,7 @@ export async function listSchedules(now = new Date()) {
 		: [];
 	const out = [];
 	for (const v of versions) {
-		const targets = await targetsOf(v);
+		const targets = await targetsOf(v, site.id);
 		const status = [];
 		for (const t of targets) status.push(await statusFor(v, t, today, site.timeZone));
 		out.push({
@@ -406,7 +398,6 @@ export async function listSchedules(now = new Date()) {
 	return { today, timeZone: site.timeZone, schedules: out };
 }
 
-const unitWords = { day: 'day', week: 'week', month: 'month', year: 'year' } as const;
 const usageWords = { sip_cycles: 'SIP cycles', operating_hours: 'operating hours' } as const;
 
 /** "every 12 months or 100 SIP cycles, whichever first" */
@@ -414,7 +405,7 @@ export function ruleWords(rule: ScheduleRule) {
 	const parts: string[] = [];
 	if (rule.calendar)
 		parts.push(
-			`every ${rule.calendar.every} ${unitWords[rule.calendar.unit]}${rule.calendar.every === 1 ? '' : 's'}`
+			`every ${rule.calendar.every} ${rule.calendar.unit}${rule.calendar.every === 1 ? '' : 's'}`
 		);
 	if (rule.usage)
 		parts.push(
@@ -470,6 +461,7 @@ export async function generateDueWork(now = new Date()) {
 }
 
 let timer: ReturnType<typeof setInterval> | null = null;
+let firstRun: ReturnType<typeof setTimeout> | null = null;
 let running: Promise<unknown> | null = null;
 
 /** The scheduler inside the server: a run soon after start, then every `intervalMs`. */
@@ -483,20 +475,16 @@ export function startPmScheduler(intervalMs: number, firstAfterMs = 10_000) {
 			.catch((e: Error) => log.error('PM scheduler run failed', { message: e.message }))
 			.finally(() => (running = null));
 	};
-	const first = setTimeout(run, firstAfterMs);
-	first.unref?.();
+	firstRun = setTimeout(run, firstAfterMs);
+	firstRun.unref?.();
 	timer = setInterval(run, intervalMs);
 	timer.unref?.();
-	return () => {
-		clearTimeout(first);
-		if (timer) clearInterval(timer);
-		timer = null;
-	};
 }
 
 export function stopPmScheduler() {
+	if (firstRun) clearTimeout(firstRun);
 	if (timer) clearInterval(timer);
-	timer = null;
+	firstRun = timer = null;
 }
 
 /** For `npm run pm:generate` (scripts/pm-generate.js): the pool of this module copy. */

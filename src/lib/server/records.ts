@@ -23,6 +23,13 @@ export class RecordError extends Error {
 	}
 }
 
+/** The site, or the refusal when it is not set up yet (the writers of 5/10 and 9/10). */
+export async function siteOrFail() {
+	const site = await currentSite();
+	if (!site) throw new RecordError('The site is not set up.', undefined, 409);
+	return site;
+}
+
 /** Who records: a signed-in person, or a system job (the demo seed, the PM scheduler of 9/10). */
 /** …or a plant system's API token (9/10: usage reports). */
 export type Recorder = Extract<Actor, { kind: 'person' } | { kind: 'system' } | { kind: 'token' }>;

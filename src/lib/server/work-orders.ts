@@ -86,7 +86,6 @@ import {
 import { enqueue, kickOutbox } from './outbox';
 import { instrumentFitness, getInstrument } from './instruments';
 import { effectiveVersion } from './procedures';
-import { currentSite } from './plant';
 import { isQualified } from './qualifications';
 import {
 	appendRecordEvent,
@@ -95,6 +94,7 @@ import {
 	personOf,
 	RecordError,
 	refuse,
+	siteOrFail,
 	type Recorder
 } from './records';
 import {
@@ -133,12 +133,6 @@ async function thenKick<T>(work: Promise<T>): Promise<T> {
 	const out = await work;
 	kickOutbox();
 	return out;
-}
-
-async function siteOrFail() {
-	const site = await currentSite();
-	if (!site) throw new RecordError('The site is not set up.', undefined, 409);
-	return site;
 }
 
 // ── Reading ──────────────────────────────────────────────────────────────────
