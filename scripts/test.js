@@ -3,7 +3,7 @@
 // from a migrated template), and browser tests (Debian's Chromium) against the built app.
 // Prints "N passed, N failed" at the end. `--only unit|integration|e2e|check|lint` runs one part.
 import { spawnSync } from 'node:child_process';
-import { existsSync, mkdirSync, readFileSync, rmSync } from 'node:fs';
+import { existsSync, mkdirSync, readdirSync, readFileSync, rmSync } from 'node:fs';
 import { join } from 'node:path';
 import { ensureDependencies } from './ensure-deps.js';
 
@@ -144,6 +144,12 @@ for (const project of ['unit', 'integration']) {
 
 if (wants('e2e')) {
 	buildIfStale();
+	// The browser tests read the SMTP fake's messages: not those the integration tests' work orders
+	// (numbered like the browser tests' own, each in its database) sent before.
+	const mailFolder = 'mailFolder' in fakes ? fakes.mailFolder : null;
+	if (mailFolder && existsSync(mailFolder))
+		for (const f of readdirSync(mailFolder))
+			if (f.endsWith('.eml')) rmSync(join(mailFolder, f), { force: true });
 	cluster.createDatabase(E2E_DATABASE, { template: TEMPLATE });
 	await runSeed(localUrl('owner', E2E_DATABASE), localUrl('app', E2E_DATABASE));
 	const report = join(results, 'e2e-results.json');

@@ -1,7 +1,7 @@
 import type { Handle, HandleServerError, ServerInit } from '@sveltejs/kit';
-import { json } from '@sveltejs/kit';
 import { sequence } from '@sveltejs/kit/hooks';
 import { handle as authHandle } from '$lib/server/auth/index';
+import { apiError, normaliseApiError } from '$lib/server/api-errors';
 import { guard } from '$lib/server/auth/guard';
 import { closeDatabase } from '$lib/server/db/index';
 import { log } from '$lib/server/log';
@@ -33,41 +33,28 @@ export const init: ServerInit = async () => {
 
 const MAX_BODY = 1024 * 1024;
 const isApi = (path: string) => path === '/api' || path.startsWith('/api/');
-const isJson = (response: Response) =>
-	response.status < 400 ||
-	(response.headers.get('content-type') ?? '').includes('application/json');
 
-function apiMessage(status: number, method: string) {
-	if (status === 404) return 'Not found';
-	if (status === 405) return `${method} is not allowed on this route`;
-	if (status >= 500) return 'Something went wrong on our side';
-	return 'The request was refused';
-}
-
-/** Request id, security headers, and JSON (never HTML) from every API route. */
+/** Request id, security headers, and JSON (never HTML) from every API route, errors in one shape. */
 const core: Handle = async ({ event, resolve }) => {
 	event.locals.requestId = crypto.randomUUID();
 	event.locals.user = null;
 	// BODY_SIZE_LIMIT is raised for photo uploads; every other route keeps to 1 MB.
 	const declared = Number(event.request.headers.get('content-length') ?? 0);
 	if (declared > MAX_BODY && event.route.id !== '/(app)/work/[id=uuid]/evidence')
-		return json(
-			{ message: 'The request is too large.' },
-			{ status: 413, headers: { 'x-request-id': event.locals.requestId } }
-		);
-	const response = await resolve(event);
+		return apiError(413, 'The request is too large: send at most 1 MB.', null, {
+			headers: { 'x-request-id': event.locals.requestId }
+		});
+	const resolved = await resolve(event);
 
-	// API routes answer JSON, never an HTML page or bare text, whatever the client asked for.
-	if (isApi(event.url.pathname) && !isJson(response)) {
-		const status = response.status >= 400 ? response.status : 500;
-		const headers = new Headers({ 'x-request-id': event.locals.requestId });
-		const allow = response.headers.get('allow');
-		if (allow) headers.set('allow', allow);
-		return json(
-			{ message: apiMessage(status, event.request.method), errorId: event.locals.errorId },
-			{ status, headers }
-		);
-	}
+	// API routes answer JSON, never an HTML page or bare text, whatever the client asked for, and
+	// every error in one shape, {message, field} (api-errors.ts; the Error schema of openapi.json).
+	const response = isApi(event.url.pathname)
+		? await normaliseApiError(resolved, {
+				method: event.request.method,
+				path: event.url.pathname,
+				errorId: event.locals.errorId
+			})
+		: resolved;
 
 	// Some responses (Response.redirect from Auth.js) have immutable headers: copy those first.
 	const out = isImmutable(response) ? new Response(response.body, response) : response;

@@ -65,7 +65,14 @@ export async function runSeed(ownerUrl, appUrl) {
 	try {
 		const master = await demo.seedDemoMasterData(DEMO_PASSWORD);
 		const work = await demo.seedDemoWork(DEMO_PASSWORD);
-		return { ...added, ...master, work, ...(await demo.seedDemoSchedules()) };
+		return {
+			...added,
+			...master,
+			work,
+			...(await demo.seedDemoSchedules()),
+			...(await demo.seedDemoPlantUsage()),
+			...(await demo.seedDemoReliability())
+		};
 	} finally {
 		// Through the same module copy as the seed (each tsImport loads its own copy, and pool).
 		await demo.closeDatabase();

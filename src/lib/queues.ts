@@ -4,6 +4,7 @@
  */
 export type QueueLink =
 	| { route: '/(app)/people/[id=uuid]'; id: string }
+	| { route: '/(app)/deviations/[id=uuid]'; id: string }
 	| { route: '/(app)/work/[id=uuid]'; id: string }
 	| { route: '/(app)/work/[id=uuid]/steps/[key=stepkey]'; id: string; key: string };
 

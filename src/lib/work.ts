@@ -749,3 +749,39 @@ export function turOf(
 	}
 	return out;
 }
+
+// ── Deviations of SIP cycles (9/10) ──────────────────────────────────────────
+
+export const SIP_DEVIATION_RECORD = 'sip_deviation';
+
+/** What Quality's disposition of an off-steam SIP cycle signs: the cycle as reported, the check, the decision. */
+export function sipDeviationSignedContent(d: {
+	id: string;
+	number: string;
+	equipment: string;
+	description: string;
+	cycle: {
+		id: string;
+		startedAt: string;
+		endedAt: string;
+		peakTemperatureC: number;
+		absolutePressureBar: number;
+		holdMinutes: number;
+		saturationTemperatureC: number;
+		toleranceC: number;
+	};
+	decision: DeviationDecision;
+	text: string;
+}) {
+	return {
+		type: SIP_DEVIATION_RECORD,
+		id: d.id,
+		content: {
+			number: d.number,
+			equipment: d.equipment,
+			description: d.description,
+			cycle: d.cycle,
+			disposition: { decision: d.decision, text: d.text }
+		}
+	};
+}

@@ -66,6 +66,25 @@ test('a Planner reads the overdue and due-soon lists and the 12-week calendar, a
 	await sql.end();
 	expect(event).toMatchObject({ actor_name: 'Priya Lindqvist', new_values: { usageLimit: 400 } });
 
+	// The schedule's page: a change needs its reason and a change; a pause is a new version.
+	await planned.getByRole('link', { name: 'Pump seal P-3102' }).click();
+	await expect(page.getByRole('heading', { level: 1, name: 'Pump seal P-3102' })).toBeVisible();
+	await expect(page.getByRole('region', { name: /^Equipment \(1\)/ })).toContainText('P-3102');
+	await page.getByRole('button', { name: 'Save the change' }).click();
+	await expect(page.getByText('Give the reason for the change.')).toBeVisible();
+	await page.getByLabel('Reason for the change').fill('Seal supplier changed');
+	await page.getByRole('button', { name: 'Save the change' }).click();
+	await expect(page.getByText(/Nothing is changed/)).toBeVisible();
+	await page.getByLabel('Active: makes work orders when they fall due').uncheck();
+	await page.getByLabel('Reason for the change').fill('Pump out of service for the shutdown');
+	await page.getByRole('button', { name: 'Save the change' }).click();
+	await expect(page.getByText(/Saved as version 2: the schedule is paused/)).toBeVisible();
+	await expect(page.getByRole('heading', { level: 1 })).toContainText('(paused)');
+	await expect(page.getByRole('region', { name: 'Versions' })).toContainText(
+		'Pump out of service for the shutdown'
+	);
+	await shot(page, 'pm-schedule');
+
 	await page.setViewportSize({ width: 390, height: 844 });
 	await page.goto('/pm');
 	await expectNoHorizontalScroll(page);

@@ -104,7 +104,7 @@ describe('the plant API', () => {
 		const before = (await refusals()).length;
 		const none = await post('/api/v1/equipment/NO-SUCH-TAG/usage', 'not json at all', null);
 		expect(none.status).toBe(401);
-		expect(await none.json()).toEqual({ message: expect.stringMatching(/Bearer/) });
+		expect(await none.json()).toEqual({ message: expect.stringMatching(/Bearer/), field: null });
 		const unknown = await post(
 			'/api/v1/equipment/XV-3104/usage',
 			cycle('2026-11-01T06:00:00Z', 121, 2),
@@ -208,6 +208,45 @@ describe('the plant API', () => {
 		);
 		expect(missing.status).toBe(404);
 		expect(await counter('XV-3104')).toBe(before);
+	});
+
+	it('a token without the scope is refused (403) and audited; a read token reads, a report token cannot read', async () => {
+		const reader = await tokens.createApiToken(admin, {
+			name: 'Line display',
+			scope: 'usage:read'
+		});
+		expect(reader.token).toMatch(/^cs_usage-read_[A-Za-z0-9_-]{43}$/);
+		const before = await counter('XV-3104');
+		const wrong = await post(
+			'/api/v1/equipment/XV-3104/usage',
+			cycle('2026-11-04T09:00:00Z', 121.1, 2.05685),
+			reader.token
+		);
+		expect(wrong.status).toBe(403);
+		expect((await wrong.json()).message).toMatch(/scope usage\b/);
+		expect(await counter('XV-3104')).toBe(before);
+		expect((await refusals()).at(-1)).toMatchObject({
+			reason: 'scope',
+			actor_kind: 'token',
+			actor_id: reader.id
+		});
+		const get = (bearer: string, query = '') =>
+			fetch(`${app.origin}/api/v1/equipment/XV-3104/usage${query}`, {
+				headers: { authorization: `Bearer ${bearer}` }
+			});
+		const read = await get(reader.token, '?limit=1');
+		expect(read.status).toBe(200);
+		const body = await read.json();
+		expect(body).toMatchObject({ equipment: 'XV-3104', sipCycles: before, operatingHours: 0 });
+		expect(body.latestCycles).toHaveLength(1);
+		expect(body.latestCycles[0].startedAt).toBe('2026-11-03T06:00:00.000Z');
+		const [readEvent] = await t.ownerSql`select actor_kind, actor_id from audit_event
+			where action = 'equipment.usage_read' order by seq desc limit 1`;
+		expect(readEvent).toEqual({ actor_kind: 'token', actor_id: reader.id });
+		expect((await get(reader.token, '?limit=0')).status).toBe(400);
+		const noRead = await get(token);
+		expect(noRead.status).toBe(403);
+		expect((await refusals()).at(-1)).toMatchObject({ reason: 'scope', actor_id: tokenId });
 	});
 
 	it('a revoked token is refused (401) and the refusal names the token; the chain still verifies', async () => {

@@ -324,8 +324,8 @@ export function describeFit(
 	const inService = fit.n - fit.r;
 	const from =
 		inService === 0
-			? `From ${fit.r} recorded failures, with none still in service`
-			: `From ${fit.r} recorded failures and ${inService} still in service`;
+			? `From ${fit.r} recorded failures, with none still in service or replaced unfailed`
+			: `From ${fit.r} recorded failures and ${inService} still in service or replaced unfailed`;
 	const sentences = [
 		`${from}: ${percent(reliability)} % of ${part} are expected to last at least ` +
 			`${roundTo(t, digits, 'round')} ${unit} (likely between ${roundTo(lower, digits, 'floor')} ` +

@@ -55,7 +55,15 @@ export const pmScheduleFormSchema = z
 		graceDays: whole('The grace window', 365).default(7),
 		leadUsage: amount('The usage lead').default(0),
 		graceUsage: amount('The usage grace').default(0),
-		startsOn: isoDay('start date')
+		startsOn: isoDay('start date'),
+		/** A change only (9/10): paused schedules make no work orders; every change has its reason. */
+		active: z.boolean().default(true),
+		reason: z
+			.string()
+			.trim()
+			.max(500, 'Keep the reason under 500 characters.')
+			.refine(isStorableText, unstorableTextMessage)
+			.default('')
 	})
 	.superRefine((v, ctx) => {
 		const need = (path: string, message: string) =>
@@ -87,5 +95,6 @@ export const pmScheduleSchema = pmScheduleFormSchema.transform((v) => ({
 	areaId: v.target === 'class' ? v.areaId : null,
 	equipmentClass: v.target === 'class' ? v.equipmentClass : null
 }));
+export type PmScheduleForm = z.infer<typeof pmScheduleFormSchema>;
 export type PmScheduleInput = z.input<typeof pmScheduleSchema>;
 export type PmSchedule = z.output<typeof pmScheduleSchema>;

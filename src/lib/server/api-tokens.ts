@@ -11,8 +11,16 @@ import { appendRecordEvent, personOf, RecordError, refuse } from './records';
  * sees it once; the database keeps only its SHA-256. A request names it as
  * `Authorization: Bearer <token>`; the guard checks it before anything else (hooks.server.ts).
  */
-export const tokenScopes = ['usage'] as const;
+export const tokenScopes = ['usage', 'usage:read'] as const;
 export type TokenScope = (typeof tokenScopes)[number];
+/** What each scope lets a plant system do, in the words of lists and refusals. */
+export const tokenScopeWords: Record<TokenScope, string> = {
+	usage: 'report usage (SIP cycles, operating hours)',
+	'usage:read': 'read usage (counters and SIP cycles)'
+};
+/** The scope a usage API request needs: reading (GET, HEAD) or reporting (anything else). */
+export const scopeForMethod = (method: string): TokenScope =>
+	method === 'GET' || method === 'HEAD' ? 'usage:read' : 'usage';
 export type TokenActor = { kind: 'token'; id: string; name: string };
 
 const hashOf = (token: string) => createHash('sha256').update(token, 'utf8').digest('hex');
@@ -36,9 +44,9 @@ export async function createApiToken(
 			'name'
 		);
 	if (!tokenScopes.includes(input.scope)) throw new RecordError('Unknown scope.', 'scope');
-	const token = `cs_${input.scope}_${randomBytes(32).toString('base64url')}`;
+	const token = `cs_${input.scope.replace(':', '-')}_${randomBytes(32).toString('base64url')}`;
 	const id = randomUUID();
-	const prefix = token.slice(0, 14);
+	const prefix = token.slice(0, input.scope === 'usage' ? 14 : 19);
 	await db().transaction(async (tx) => {
 		const rec = await appendRecordEvent(tx, personOf(admin), {
 			action: 'api_token.create',
@@ -129,7 +137,12 @@ export async function checkBearer(
 	if (!row) return refused(401, 'This API token is not known.', 'unknown', null);
 	if (row.revoked) return refused(401, 'This API token has been revoked.', 'revoked', row);
 	if (row.scope !== scope)
-		return refused(403, `This API token is not for ${scope} reports.`, 'scope', row);
+		return refused(
+			403,
+			`This API token may ${tokenScopeWords[row.scope as TokenScope] ?? row.scope}, not ${tokenScopeWords[scope]}: use a token of scope ${scope}.`,
+			'scope',
+			row
+		);
 	return { ok: true, actor: { kind: 'token', id: row.id, name: row.name }, scope };
 }
 

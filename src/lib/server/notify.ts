@@ -4,6 +4,7 @@ import type { Role } from '$lib/roles';
 import type { Transaction } from './db/index';
 import { accounts } from './db/schema/index';
 import { enqueue, type MailMessage } from './outbox';
+import { formatInZone } from '$lib/time';
 import { qualifiedAmong } from './qualifications';
 
 /**
@@ -236,6 +237,74 @@ export async function notifyVerificationFailed(
 			link: `${appOrigin()}/audit?after=${(result.firstBadSeq ?? 0) + 1}`,
 			linkText: 'Open the event in the audit trail',
 			why: 'You receive this because you hold the Quality or Administrator role.'
+		})
+	);
+}
+
+/** A follow-up made after the first SIP cycle following a release (9/10): to the Planners, who assign it. */
+export async function notifyFollowUp(
+	tx: Transaction,
+	w: { id: string; number: string; tag: string; procedureCode: string },
+	of: { number: string; procedureCode: string },
+	cycle: { startedAt: Date; dueBy: Date; hours: number },
+	timeZone: string,
+	causeSeq: number
+) {
+	const planners = await holders(tx, ['planner']);
+	return send(tx, planners, causeSeq, (p) =>
+		composeMail(p, {
+			subject: `Follow-up ${w.number} on ${w.tag} is due by ${formatInZone(cycle.dueBy, timeZone)}`,
+			lines: [
+				`The first SIP cycle after the release of ${of.number} (${of.procedureCode}) on ${w.tag} started ${formatInZone(cycle.startedAt, timeZone)}. ${of.procedureCode} asks for ${w.procedureCode} after it: work order ${w.number} is made and waits to be assigned.`,
+				`It is due within ${cycle.hours} h of the cycle's end, by ${formatInZone(cycle.dueBy, timeZone)}.`
+			],
+			link: `${appOrigin()}/work/${w.id}`,
+			linkText: 'Open the work order',
+			why: 'You receive this because you hold the Planner role.'
+		})
+	);
+}
+
+/** A SIP cycle that was not saturated steam (9/10): to Quality, who disposition the deviation. */
+export async function notifySipDeviation(
+	tx: Transaction,
+	d: { id: string; number: string; tag: string; description: string },
+	causeSeq: number
+) {
+	const quality = await holders(tx, ['quality']);
+	return send(tx, quality, causeSeq, (p) =>
+		composeMail(p, {
+			subject: `Deviation ${d.number}: a SIP cycle on ${d.tag} was not saturated steam`,
+			lines: [d.description],
+			link: `${appOrigin()}/deviations/${d.id}`,
+			linkText: 'Open the deviation',
+			why: 'You receive this because you hold the Quality role; the deviation needs a disposition.'
+		})
+	);
+}
+
+export type DigestItem = { title: string; detail: string };
+
+/** The Planners' daily digest (9/10 item 4): one message per Planner per day, every item in it. */
+export async function notifyPmDigest(
+	tx: Transaction,
+	day: string,
+	overdue: DigestItem[],
+	dueSoon: DigestItem[],
+	causeSeq: number
+) {
+	const planners = await holders(tx, ['planner']);
+	const list = (items: DigestItem[]) => items.map((i) => `• ${i.title} — ${i.detail}`);
+	return send(tx, planners, causeSeq, (p) =>
+		composeMail(p, {
+			subject: `Preventive maintenance on ${day}: ${overdue.length} overdue, ${dueSoon.length} due soon`,
+			lines: [
+				...(overdue.length ? [`Overdue (${overdue.length}):`, ...list(overdue)] : []),
+				...(dueSoon.length ? [`Due soon (${dueSoon.length}):`, ...list(dueSoon)] : [])
+			],
+			link: `${appOrigin()}/pm`,
+			linkText: 'Open PM schedules',
+			why: 'You receive this once a day while work is due soon or overdue, because you hold the Planner role.'
 		})
 	);
 }

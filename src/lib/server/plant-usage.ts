@@ -1,12 +1,17 @@
-import { and, eq } from 'drizzle-orm';
+import { and, desc, eq, sql } from 'drizzle-orm';
 import { randomUUID } from 'node:crypto';
 import { z } from 'zod';
 import { saturationTemperature } from '$lib/calc/steam';
+import { siteToday } from '$lib/fitness';
 import type { TokenActor } from './api-tokens';
 import { db } from './db/index';
-import { sipCycles } from './db/schema/index';
+import { recordEventNow } from './audit/now';
+import { equipmentUsage, sipCycles, sipDeviations } from './db/schema/index';
 import { lockEquipment, recordUsage } from './equipment';
-import { appendRecordEvent, RecordError } from './records';
+import { createDueFollowUps } from './follow-ups';
+import { notifySipDeviation } from './notify';
+import { appendRecordEvent, RecordError, siteOrFail } from './records';
+import { nextNumber } from './work-orders';
 import { env } from '$env/dynamic/private';
 
 /**
@@ -102,7 +107,8 @@ export async function recordPlantUsage(
 	report: UsageReport,
 	clientAddress: string | null
 ) {
-	return db().transaction(async (tx) => {
+	const { timeZone } = await siteOrFail();
+	const answer = await db().transaction(async (tx) => {
 		await lockEquipment(tx, equipment.id);
 		let cycle: ReturnType<typeof cycleAnswer> | null = null;
 		if (report.sipCycle) {
@@ -160,6 +166,29 @@ export async function recordPlantUsage(
 					},
 					clientAddress
 				);
+				if (!check.steamMatches) {
+					const number = await nextNumber(tx, 'DEV', siteToday(timeZone).slice(0, 4));
+					const id = randomUUID();
+					const description =
+						`SIP cycle on ${equipment.tag} started ${c.startedAt}: peak ${c.peakTemperatureC} °C at ` +
+						`${c.absolutePressureBar} bar absolute, where saturated steam is ${check.saturationTemperatureC} °C ` +
+						`(tolerance ±${tolerance} °C). Air or superheat in the steam may mean the cycle did not sterilise.`;
+					const dev = await appendRecordEvent(tx, token, {
+						action: 'sip_deviation.raise',
+						entityType: 'sip_deviation',
+						entityId: id,
+						newValues: { number, sipCycleId: row!.id, tag: equipment.tag, description },
+						clientAddress
+					});
+					await tx
+						.insert(sipDeviations)
+						.values({ id, number, sipCycleId: row!.id, description, ...dev });
+					await notifySipDeviation(
+						tx,
+						{ id, number, tag: equipment.tag, description },
+						dev.auditSeq
+					);
+				}
 				cycle = cycleAnswer(row!);
 			}
 		}
@@ -178,4 +207,49 @@ export async function recordPlantUsage(
 			);
 		return { equipment: equipment.tag, sipCycle: cycle };
 	});
+	// A cycle after a release may call for the follow-up now (9/10 item 3); made once, after
+	// the cycle is committed (the PM scheduler's runs catch up if this process stops here).
+	if (report.sipCycle) await createDueFollowUps(equipment.id);
+	return answer;
+}
+
+/**
+ * What a plant display reads (GET /api/v1/equipment/{tag}/usage, scope usage:read): the counters
+ * and the latest SIP cycles, newest first. Each read is an audit event with the token as actor.
+ */
+export async function readPlantUsage(
+	token: TokenActor,
+	equipment: { id: string; tag: string },
+	limit: number,
+	clientAddress: string | null
+) {
+	const totals = await db()
+		.select({
+			kind: equipmentUsage.kind,
+			total: sql<number>`coalesce(sum(${equipmentUsage.amount}), 0)::float8`
+		})
+		.from(equipmentUsage)
+		.where(eq(equipmentUsage.equipmentId, equipment.id))
+		.groupBy(equipmentUsage.kind);
+	const cycles = await db()
+		.select()
+		.from(sipCycles)
+		.where(eq(sipCycles.equipmentId, equipment.id))
+		.orderBy(desc(sipCycles.startedAt))
+		.limit(limit);
+	await recordEventNow({
+		actor: token,
+		action: 'equipment.usage_read',
+		entityType: 'equipment',
+		entityId: equipment.id,
+		newValues: { tag: equipment.tag, limit },
+		clientAddress
+	});
+	const total = (kind: string) => Number(totals.find((t) => t.kind === kind)?.total ?? 0);
+	return {
+		equipment: equipment.tag,
+		sipCycles: total('sip_cycles'),
+		operatingHours: total('operating_hours'),
+		latestCycles: cycles.map(cycleAnswer)
+	};
 }

@@ -1,5 +1,6 @@
 import { and, asc, desc, eq, inArray, like, lte, sql } from 'drizzle-orm';
 import { randomUUID } from 'node:crypto';
+import { env } from '$env/dynamic/private';
 import { siteToday } from '$lib/fitness';
 import { dueStatus, projectUsageDay, type Due, type ScheduleRule } from '$lib/calc/schedule';
 import { pmScheduleSchema, type PmScheduleInput } from '$lib/schemas/pm';
@@ -8,13 +9,16 @@ import {
 	equipment,
 	equipmentUsage,
 	equipmentVersions,
+	pmDigests,
 	pmSchedules,
 	pmScheduleVersions,
 	procedures,
 	workOrders,
 	workOrderTransitions
 } from './db/schema/index';
+import { createDueFollowUps } from './follow-ups';
 import { log } from './log';
+import { notifyPmDigest, type DigestItem } from './notify';
 import { appendRecordEvent, mustHold, RecordError, siteOrFail, type Recorder } from './records';
 import { createWorkOrder } from './work-orders';
 
@@ -138,6 +142,12 @@ export async function changeSchedule(
 		const previous = Object.fromEntries(
 			Object.keys(values).map((k) => [k, last![k as keyof VersionRow]])
 		);
+		if (Object.entries(values).every(([k, x]) => previous[k] === x))
+			throw new RecordError(
+				'Nothing is changed: change the schedule, or pause or resume it.',
+				undefined,
+				422
+			);
 		const rec = await appendRecordEvent(tx, by, {
 			action: 'pm_schedule.change',
 			entityType: 'pm_schedule',
@@ -157,6 +167,39 @@ export async function changeSchedule(
 		});
 		return { version: last!.version + 1 };
 	});
+}
+
+/** One schedule: every version, newest first, and where the current one stands for its equipment. */
+export async function getSchedule(id: string, now = new Date()) {
+	const site = await siteOrFail();
+	const versions = await db()
+		.select()
+		.from(pmScheduleVersions)
+		.innerJoin(pmSchedules, eq(pmSchedules.id, pmScheduleVersions.scheduleId))
+		.where(and(eq(pmScheduleVersions.scheduleId, id), eq(pmSchedules.siteId, site.id)))
+		.orderBy(desc(pmScheduleVersions.version));
+	if (!versions.length) return undefined;
+	const current: CurrentVersion = {
+		...versions[0]!.pm_schedule_versions,
+		createdSeq: versions[0]!.pm_schedules.auditSeq
+	};
+	const today = siteToday(site.timeZone, now);
+	const targets = [];
+	for (const t of await targetsOf(current, site.id))
+		targets.push(await statusFor(current, t, today, site.timeZone));
+	const [procedure] = await db()
+		.select({ code: procedures.code })
+		.from(procedures)
+		.where(eq(procedures.id, current.procedureId));
+	return {
+		id,
+		current,
+		rule: ruleOf(current),
+		procedureCode: procedure?.code ?? '',
+		versions: versions.map((r) => r.pm_schedule_versions),
+		targets,
+		today
+	};
 }
 
 /** Each schedule's current version. */
@@ -457,7 +500,86 @@ export async function generateDueWork(now = new Date()) {
 			}
 		}
 	}
-	return { today, made, already };
+	// Follow-ups a crash left out between a SIP cycle and its follow-up (9/10 item 3).
+	const followUps = await createDueFollowUps();
+	return { today, made, already, followUps };
+}
+
+/** The site-local hour from which the day's digest goes out (PM_DIGEST_HOUR, 6 by default). */
+export const digestHour = () => {
+	const v = Number(env.PM_DIGEST_HOUR ?? 6);
+	return Number.isInteger(v) && v >= 0 && v <= 23 ? v : 6;
+};
+
+const localHour = (timeZone: string, now: Date) =>
+	Number(
+		new Intl.DateTimeFormat('en-GB', { timeZone, hour: 'numeric', hourCycle: 'h23' }).format(now)
+	);
+
+const stateWords: Record<Due['state'], string> = {
+	not_due: 'not due',
+	due_soon: 'due soon',
+	due: 'due',
+	overdue: 'overdue'
+};
+
+/**
+ * The Planners' digest (9/10 item 4): once a site-local day, from `digestHour()`, when work is
+ * due soon or overdue, one e-mail per Planner listing all of it. The row of pm_digests, written
+ * with the mails in one transaction, makes it once a day however many schedulers run.
+ */
+export async function sendPmDigest(now = new Date()) {
+	const site = await siteOrFail();
+	const day = siteToday(site.timeZone, now);
+	if (localHour(site.timeZone, now) < digestHour()) return { day, sent: false as const };
+	const [done] = await db()
+		.select({ id: pmDigests.id })
+		.from(pmDigests)
+		.where(and(eq(pmDigests.siteId, site.id), eq(pmDigests.day, day)));
+	if (done) return { day, sent: false as const };
+	const { schedules } = await listSchedules(now);
+	const overdue: DigestItem[] = [];
+	const dueSoon: DigestItem[] = [];
+	for (const s of schedules) {
+		if (!s.version.active) continue;
+		for (const t of s.targets) {
+			if (t.due.state === 'not_due') continue;
+			const item = {
+				title: `${t.tag}: ${s.version.title}`,
+				detail:
+					`${stateWords[t.due.state]}${t.nextOn ? `, due ${t.nextOn}` : ''}` +
+					(t.made ? `; work order ${t.made.number} is made` : '; no work order yet')
+			};
+			(t.due.state === 'overdue' ? overdue : dueSoon).push(item);
+		}
+	}
+	if (!overdue.length && !dueSoon.length) return { day, sent: false as const };
+	try {
+		return await db().transaction(async (tx) => {
+			const id = randomUUID();
+			const rec = await appendRecordEvent(tx, PM_SCHEDULER, {
+				action: 'pm.digest',
+				entityType: 'site',
+				entityId: site.id,
+				newValues: { day, overdue: overdue.length, dueSoon: dueSoon.length }
+			});
+			const recipients = await notifyPmDigest(tx, day, overdue, dueSoon, rec.auditSeq);
+			await tx.insert(pmDigests).values({
+				id,
+				siteId: site.id,
+				day,
+				overdue: overdue.length,
+				dueSoon: dueSoon.length,
+				recipients,
+				...rec
+			});
+			return { day, sent: true as const, overdue, dueSoon, recipients };
+		});
+	} catch (e) {
+		const cause = ((e as { cause?: unknown })?.cause ?? e) as { constraint_name?: string };
+		if (cause?.constraint_name === 'pm_digests_once') return { day, sent: false as const };
+		throw e;
+	}
 }
 
 let timer: ReturnType<typeof setInterval> | null = null;
@@ -469,8 +591,12 @@ export function startPmScheduler(intervalMs: number, firstAfterMs = 10_000) {
 	const run = () => {
 		if (running) return; // one run at a time in this process (other servers: the database)
 		running = generateDueWork()
-			.then((r) => {
+			.then(async (r) => {
 				if (r.made.length) log.info('PM scheduler made work orders', { made: r.made });
+				if (r.followUps.length)
+					log.info('PM scheduler made follow-ups', { made: r.followUps.map((f) => f.number) });
+				const digest = await sendPmDigest();
+				if (digest.sent) log.info('PM digest queued', { day: digest.day });
 			})
 			.catch((e: Error) => log.error('PM scheduler run failed', { message: e.message }))
 			.finally(() => (running = null));

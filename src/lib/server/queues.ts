@@ -1,6 +1,7 @@
 import type { Queue } from '$lib/queues';
 import { lockedAccounts } from './accounts';
 import type { User } from './auth/guard';
+import { openSipDeviations } from './sip-deviations';
 import { queuesFor } from './work-orders';
 
 /** The queues of a person, by their roles: what waits for them, oldest first. */
@@ -58,7 +59,17 @@ export async function queuesOf(user: User): Promise<Queue[]> {
 				key: 'deviations',
 				title: 'Deviations to disposition',
 				empty: 'No open deviation.',
-				items: toWork('deviations')
+				items: [
+					...toWork('deviations'),
+					// SIP cycles that were not saturated steam (9/10), reported by the plant.
+					...(await openSipDeviations()).map((d) => ({
+						id: d.id,
+						title: `${d.number} · ${d.tag}: SIP cycle not saturated steam`,
+						detail: `cycle started ${d.cycle.startedAt.toISOString().slice(0, 16).replace('T', ' ')} UTC`,
+						at: d.raisedAt.toISOString(),
+						href: { route: '/(app)/deviations/[id=uuid]' as const, id: d.id }
+					}))
+				].sort((a, b) => (a.at ?? '').localeCompare(b.at ?? ''))
 			}
 		);
 	if (roles.includes('administrator')) {

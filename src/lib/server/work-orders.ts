@@ -54,6 +54,7 @@ import {
 	auditEvent,
 	deviationDispositions,
 	deviations,
+	sipDeviations,
 	equipment,
 	equipmentStatusChanges,
 	equipmentVersions,
@@ -689,23 +690,30 @@ async function checkAssignees(tx: Transaction, ids: string[]) {
  * The next number of a kind (WO, DEV) for the year. Numbers are unique across the database, so
  * the lock and the count are too (one sequence for every site).
  */
-async function nextNumber(tx: Transaction, prefix: 'WO' | 'DEV', year: string) {
+export async function nextNumber(tx: Transaction, prefix: 'WO' | 'DEV', year: string) {
 	await tx.execute(
 		sql`select pg_advisory_xact_lock(hashtextextended(${`${prefix}-number:${year}`}, 0))`
 	);
-	const table = prefix === 'WO' ? workOrders : deviations;
-	const [row] = await tx
-		.select({ n: sql<number>`count(*)::int` })
-		.from(table)
-		.where(like(table.number, `${prefix}-${year}-%`));
-	return `${prefix}-${year}-${String((row?.n ?? 0) + 1).padStart(4, '0')}`;
+	// Deviations of work orders and of SIP cycles (9/10) share one series.
+	const tables = prefix === 'WO' ? [workOrders] : [deviations, sipDeviations];
+	let n = 0;
+	for (const table of tables) {
+		const [row] = await tx
+			.select({ n: sql<number>`count(*)::int` })
+			.from(table)
+			.where(like(table.number, `${prefix}-${year}-%`));
+		n += row?.n ?? 0;
+	}
+	return `${prefix}-${year}-${String(n + 1).padStart(4, '0')}`;
 }
 
 /** A Planner creates a work order on the effective version of the procedure (pinned: MR1). */
 export async function createWorkOrder(
 	by: Recorder,
 	input: NewWorkOrder,
-	clientAddress: string | null = null
+	clientAddress: string | null = null,
+	/** More to do in the creating transaction (the follow-up's e-mails, 9/10). */
+	also?: (tx: Transaction, made: { id: string; number: string; auditSeq: number }) => Promise<void>
 ) {
 	await mustHold(by, ['planner'], 'create work orders');
 	const site = await siteOrFail();
@@ -785,6 +793,7 @@ export async function createWorkOrder(
 			signatureId: null,
 			...rec
 		});
+		if (also) await also(tx, { id, number, auditSeq: rec.auditSeq });
 		return { id, number };
 	});
 }

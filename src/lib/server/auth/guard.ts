@@ -1,7 +1,7 @@
 import { error, json, redirect, type Handle, type RequestEvent } from '@sveltejs/kit';
 import { mayAccess, routeAccess, type Access } from '$lib/access';
 import type { Role } from '$lib/roles';
-import { checkBearer } from '../api-tokens';
+import { checkBearer, scopeForMethod } from '../api-tokens';
 import { recordEventNow } from '../audit/now';
 
 export type User = {
@@ -44,7 +44,8 @@ export const guard: Handle = async ({ event, resolve }) => {
 		(routeId && routeAccess[routeId as keyof typeof routeAccess] === 'token:usage') ||
 		event.url.pathname.startsWith('/api/v1/equipment/')
 	) {
-		const checked = await checkBearer(event.request.headers.get('authorization'), 'usage', {
+		const scope = scopeForMethod(event.request.method);
+		const checked = await checkBearer(event.request.headers.get('authorization'), scope, {
 			method: event.request.method,
 			path: event.url.pathname,
 			clientAddress: event.getClientAddress()
@@ -71,7 +72,14 @@ export const guard: Handle = async ({ event, resolve }) => {
 			redirect(303, `/login?callbackUrl=${encodeURIComponent(back)}`);
 		}
 		await recordDenied(event, user, access);
-		if (isApi(event)) return json({ message: 'Your roles do not allow this' }, { status: 403 });
+		if (isApi(event))
+			return json(
+				{
+					message: 'Your roles do not allow this: ask an administrator for a role that does.',
+					field: null
+				},
+				{ status: 403 }
+			);
 		error(403, 'Your roles do not allow this page.');
 	}
 

@@ -20,7 +20,8 @@ import {
 	sealInspection
 } from './procedures';
 export { seedDemoWork, type WorkSeedResult } from './work';
-export { seedDemoSchedules } from './schedules';
+export { seedDemoPlantUsage, seedDemoSchedules } from './schedules';
+export { seedDemoReliability } from './reliability';
 export { closeDatabase } from '../index';
 
 /**

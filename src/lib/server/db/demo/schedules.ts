@@ -1,12 +1,14 @@
 import { count, eq } from 'drizzle-orm';
 import { addDays, siteToday } from '../../../fitness';
+import { createApiToken } from '../../api-tokens';
 import * as equipment from '../../equipment';
+import { recordPlantUsage, usageReportSchema } from '../../plant-usage';
 import { currentSite } from '../../plant';
 import { createSchedule } from '../../pm';
 import * as procedures from '../../procedures';
 import { personOf } from '../../records';
 import { db } from '../index';
-import { accounts, areas, pmSchedules } from '../schema/index';
+import { accounts, apiTokens, areas, pmSchedules } from '../schema/index';
 
 /**
  * Demo PM schedules (9/10), planned by the demo Planner, with start dates relative to the day of
@@ -103,4 +105,56 @@ export async function seedDemoSchedules() {
 	];
 	for (const plan of plans) await createSchedule(planner, plan);
 	return { schedules: plans.length };
+}
+
+/**
+ * The demo plant's control system (9/10): a usage token made by the demo Administrator (its value
+ * is not kept anywhere: create another on People and access → API tokens to report cycles
+ * yourself), and SIP cycles it reported over the last days — saturated steam on three valves,
+ * and one cycle on XV-3106 yesterday whose 121 °C at 1.2 bar absolute is not saturated steam
+ * (about 104.8 °C there, IAPWS-IF97), a deviation waiting for Quality. Invented data.
+ * Idempotent: nothing is added when any token exists.
+ */
+export async function seedDemoPlantUsage() {
+	const [existing] = await db().select({ n: count() }).from(apiTokens);
+	if ((existing?.n ?? 0) > 0) return { sipCycles: 0 };
+	const [a] = await db().select().from(accounts).where(eq(accounts.username, 'admin'));
+	if (!a) throw new Error('demo account admin is missing: seed the accounts first');
+	const name = 'Fill line control system';
+	const made = await createApiToken(
+		{
+			id: a.id,
+			username: a.username,
+			name: a.fullName,
+			email: a.email,
+			roles: a.roles,
+			mustChangePassword: false
+		},
+		{ name, scope: 'usage' }
+	);
+	const token = { kind: 'token' as const, id: made.id, name };
+	const day = 86_400_000;
+	const now = Date.now();
+	let cycles = 0;
+	const report = async (tag: string, daysAgo: number, peak = 121.4, bar = 2.08) => {
+		const start = Math.floor((now - daysAgo * day) / 60_000) * 60_000;
+		const parsed = usageReportSchema.parse({
+			sipCycle: {
+				startedAt: new Date(start).toISOString(),
+				endedAt: new Date(start + 50 * 60_000).toISOString(),
+				peakTemperatureC: peak,
+				absolutePressureBar: bar,
+				holdMinutes: 20
+			}
+		});
+		await recordPlantUsage(token, { id: (await equipment.findByTag(tag))!, tag }, parsed, null);
+		cycles++;
+	};
+	for (const daysAgo of [6, 4, 2]) {
+		await report('XV-3104', daysAgo + 0.3);
+		await report('XV-3106', daysAgo + 0.2);
+		await report('XV-4203', daysAgo + 0.1);
+	}
+	await report('XV-3106', 1, 121, 1.2);
+	return { sipCycles: cycles };
 }

@@ -13,6 +13,7 @@ import {
 } from 'drizzle-orm/pg-core';
 import { recorded } from './columns';
 import { equipment } from './master';
+import { signatures } from './signatures';
 import { sha256 } from './types';
 
 const at = (name: string) => timestamp(name, { withTimezone: true, precision: 3 });
@@ -33,7 +34,7 @@ export const apiTokens = pgTable(
 		prefix: text('prefix').notNull(),
 		...recorded()
 	},
-	(t) => [check('api_tokens_scope', sql`${t.scope} in ('usage')`)]
+	(t) => [check('api_tokens_scope', sql`${t.scope} in ('usage', 'usage:read')`)]
 );
 
 export const apiTokenRevocations = pgTable('api_token_revocations', {
@@ -74,5 +75,45 @@ export const sipCycles = pgTable(
 		index('sip_cycles_equipment').on(t.equipmentId, t.startedAt),
 		check('sip_cycles_times', sql`${t.endedAt} > ${t.startedAt}`),
 		check('sip_cycles_count', sql`${t.count} >= 1`)
+	]
+);
+
+/**
+ * A cycle whose peak temperature does not match saturated steam at its pressure is a deviation
+ * (9/10 item 2): numbered DEV-<year>-<nnnn> with the work orders' deviations, raised in the same
+ * transaction as the cycle, in Quality's queue until dispositioned with a Reviewed signature.
+ */
+export const sipDeviations = pgTable('sip_deviations', {
+	id: uuid('id').primaryKey(),
+	number: text('number').notNull().unique(),
+	sipCycleId: uuid('sip_cycle_id')
+		.notNull()
+		.unique()
+		.references(() => sipCycles.id),
+	description: text('description').notNull(),
+	...recorded()
+});
+
+export const sipDeviationDispositions = pgTable(
+	'sip_deviation_dispositions',
+	{
+		id: uuid('id').primaryKey(),
+		deviationId: uuid('deviation_id')
+			.notNull()
+			.unique()
+			.references(() => sipDeviations.id),
+		decision: text('decision').notNull(),
+		text: text('text').notNull(),
+		signatureId: uuid('signature_id')
+			.notNull()
+			.unique()
+			.references(() => signatures.id),
+		...recorded()
+	},
+	(t) => [
+		check(
+			'sip_deviation_dispositions_decision',
+			sql`${t.decision} in ('accepted', 'corrected', 'capa')`
+		)
 	]
 );

@@ -92,3 +92,55 @@ export const pmScheduleVersions = pgTable(
 		check('pm_schedule_versions_reason', sql`${t.version} = 1 or ${t.reason} is not null`)
 	]
 );
+
+/**
+ * The Planners' daily digest of due-soon and overdue work (9/10 item 4): one row per site and
+ * site-local day, written in the transaction that queues the mails, so however many schedulers
+ * run, the digest of a day goes out once (the unique key decides).
+ */
+export const pmDigests = pgTable(
+	'pm_digests',
+	{
+		id: uuid('id').primaryKey(),
+		siteId: uuid('site_id')
+			.notNull()
+			.references(() => sites.id),
+		day: date('day').notNull(),
+		overdue: integer('overdue').notNull(),
+		dueSoon: integer('due_soon').notNull(),
+		recipients: integer('recipients').notNull(),
+		...recorded()
+	},
+	(t) => [unique('pm_digests_once').on(t.siteId, t.day)]
+);
+
+/**
+ * Diaphragm lives carried over from the records kept before Countersign (9/10 item 6): one row
+ * per diaphragm that was fitted and removed — when, after how many SIP cycles, and whether it
+ * failed or was replaced as planned (a planned replacement is a right-censored life). Lives
+ * recorded in Countersign come from its own released work orders; these rows only add history.
+ * Append-only.
+ */
+export const partLifeRecords = pgTable(
+	'part_life_records',
+	{
+		id: uuid('id').primaryKey(),
+		equipmentId: uuid('equipment_id')
+			.notNull()
+			.references(() => equipment.id),
+		materialCode: text('material_code').notNull(),
+		fittedOn: date('fitted_on').notNull(),
+		removedOn: date('removed_on').notNull(),
+		sipCycles: integer('sip_cycles').notNull(),
+		endedBy: text('ended_by').notNull(),
+		/** Where the row came from (the paper logbook and page, the old system's export). */
+		source: text('source').notNull(),
+		...recorded()
+	},
+	(t) => [
+		index('part_life_records_equipment').on(t.equipmentId),
+		check('part_life_records_ended_by', sql`${t.endedBy} in ('failure', 'planned')`),
+		check('part_life_records_dates', sql`${t.removedOn} >= ${t.fittedOn}`),
+		check('part_life_records_cycles', sql`${t.sipCycles} >= 0`)
+	]
+);

@@ -65,7 +65,11 @@ export const workOrders = pgTable(
 		check('work_orders_pm_basis', sql`(${t.pmScheduleId} is null) = (${t.pmBasis} is null)`),
 		uniqueIndex('work_orders_pm_once')
 			.on(t.pmScheduleId, t.equipmentId, t.pmBasis)
-			.where(sql`${t.pmScheduleId} is not null`)
+			.where(sql`${t.pmScheduleId} is not null`),
+		// One follow-up per work order followed up (9/10 item 3), however many cycles are reported.
+		uniqueIndex('work_orders_follow_up_once')
+			.on(t.followsUp)
+			.where(sql`${t.kind} = 'follow_up'`)
 	]
 );
 

@@ -7,7 +7,10 @@ import type { Actions, PageServerLoad } from './$types';
 /** API tokens for the plant's systems (9/10): Administrators create (shown once) and revoke them. */
 export const load: PageServerLoad = async (event) => {
 	await requireRole(event, 'administrator');
-	return { tokens: await tokens.listApiTokens() };
+	return {
+		tokens: await tokens.listApiTokens(),
+		scopes: tokens.tokenScopes.map((s) => ({ value: s, words: tokens.tokenScopeWords[s] }))
+	};
 };
 
 const text = (data: FormData, name: string) => {
@@ -20,13 +23,16 @@ export const actions: Actions = {
 		const admin = await requireRole(event, 'administrator');
 		const data = await event.request.formData().catch(() => new FormData());
 		const name = text(data, 'name');
+		const scope = text(data, 'scope') || 'usage';
+		if (!tokens.tokenScopes.includes(scope as tokens.TokenScope))
+			return fail(400, { action: 'create', name, message: 'Choose what the token may do.' });
 		try {
 			const made = await tokens.createApiToken(
 				admin,
-				{ name, scope: 'usage' },
+				{ name, scope: scope as tokens.TokenScope },
 				event.getClientAddress()
 			);
-			return { created: { name: name.trim(), token: made.token } };
+			return { created: { name: name.trim(), token: made.token, scope } };
 		} catch (e) {
 			if (e instanceof RecordError)
 				return fail(e.status, { action: 'create', name, message: e.message });

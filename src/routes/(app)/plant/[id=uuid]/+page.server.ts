@@ -6,6 +6,7 @@ import { requireRole } from '$lib/server/auth/guard';
 import { refused } from '$lib/server/forms';
 import * as equipment from '$lib/server/equipment';
 import { personOf, RecordError } from '$lib/server/records';
+import { cyclesOfEquipment } from '$lib/server/sip-deviations';
 import { workOrdersOfEquipment } from '$lib/server/work-orders';
 import type { Actions, PageServerLoad, RequestEvent } from './$types';
 
@@ -23,6 +24,7 @@ export const load: PageServerLoad = async (event) => {
 		workOrders: (await workOrdersOfEquipment(found.id)).sort((a, b) =>
 			b.number.localeCompare(a.number)
 		),
+		cycles: await cyclesOfEquipment(found.id),
 		mayChange: user.roles.includes('planner'),
 		mayQuarantine: user.roles.includes('quality'),
 		quarantineForm: await superValidate(zod4(statusChangeSchema), { id: 'quarantine' })

@@ -11,6 +11,7 @@ import {
 	signWithReasonSchema
 } from '$lib/schemas/work';
 import { siteToday } from '$lib/fitness';
+import { followUpLinks } from '$lib/server/follow-ups';
 import { recordAction } from '$lib/server/forms';
 import { currentSite } from '$lib/server/plant';
 import { isQualified } from '$lib/server/qualifications';
@@ -37,6 +38,7 @@ export const load: PageServerLoad = async (event) => {
 	const firstOpen = found.steps.find((s) => !stepDone(s.step, s.status)) ?? null;
 	return {
 		wo: found.wo,
+		related: await followUpLinks(found.wo),
 		plan: found.plan,
 		plans: found.plans,
 		status: found.status,

@@ -7,6 +7,7 @@ import {
 	parseApiQuery,
 	rolesCsvColumns
 } from '$lib/server/access-review';
+import { apiError } from '$lib/server/api-errors';
 import { recordEventNow } from '$lib/server/audit/now';
 import { csvCell } from '$lib/server/audit/browse';
 import { requireRole } from '$lib/server/auth/guard';
@@ -22,7 +23,7 @@ import type { RequestHandler } from './$types';
 export const GET: RequestHandler = async (event) => {
 	const user = await requireRole(event, 'administrator', 'quality', 'inspector');
 	const query = parseApiQuery(event.url.searchParams);
-	if (!query.ok) return json({ message: query.message, field: query.field }, { status: 400 });
+	if (!query.ok) return apiError(400, query.message, query.field);
 	const { period, format, table } = query;
 	const report = await accessReview(period);
 	await recordEventNow({

@@ -6,6 +6,7 @@ import {
 	browseAudit,
 	queryRefusal
 } from '$lib/server/audit/browse';
+import { apiError, fieldOfIssue } from '$lib/server/api-errors';
 import { requireRole } from '$lib/server/auth/guard';
 import type { RequestHandler } from './$types';
 
@@ -19,9 +20,9 @@ import type { RequestHandler } from './$types';
 export const GET: RequestHandler = async (event) => {
 	await requireRole(event, 'quality', 'inspector');
 	const parsed = auditQuerySchema.safeParse(auditParams(event.url.searchParams));
-	if (!parsed.success)
-		return json(queryRefusal(parsed.error, [...auditFilterNames, 'order', 'limit', 'after']), {
-			status: 400
-		});
+	if (!parsed.success) {
+		const refusal = queryRefusal(parsed.error, [...auditFilterNames, 'order', 'limit', 'after']);
+		return apiError(400, refusal.message, fieldOfIssue(parsed.error.issues[0]));
+	}
 	return json(await browseAudit(parsed.data), { headers: { 'cache-control': 'no-store' } });
 };

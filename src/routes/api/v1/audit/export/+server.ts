@@ -1,5 +1,5 @@
-import { json } from '@sveltejs/kit';
 import { stringify } from 'csv-stringify/sync';
+import { apiError, fieldOfIssue } from '$lib/server/api-errors';
 import { recordEventNow } from '$lib/server/audit/now';
 import { exportLines } from '$lib/server/audit/export';
 import {
@@ -36,10 +36,12 @@ export const GET: RequestHandler = async (event) => {
 	delete params.limit;
 	delete params.order;
 	if (format !== 'jsonl' && format !== 'csv')
-		return json({ message: 'format is jsonl or csv.', field: 'format' }, { status: 400 });
+		return apiError(400, 'format is jsonl or csv.', 'format');
 	const parsed = auditQuerySchema.safeParse(params);
-	if (!parsed.success)
-		return json(queryRefusal(parsed.error, ['format', ...auditFilterNames]), { status: 400 });
+	if (!parsed.success) {
+		const refusal = queryRefusal(parsed.error, ['format', ...auditFilterNames]);
+		return apiError(400, refusal.message, fieldOfIssue(parsed.error.issues[0]));
+	}
 	const filters: Partial<AuditQuery> = Object.fromEntries(
 		auditFilterNames.filter((k) => k in params).map((k) => [k, parsed.data[k as keyof AuditQuery]])
 	);

@@ -1,5 +1,6 @@
 import { json } from '@sveltejs/kit';
 import { z } from 'zod';
+import { apiError, fieldOfIssue } from '$lib/server/api-errors';
 import { consistencyOf, inclusionOf } from '$lib/server/audit/checkpoints';
 import { requireRole } from '$lib/server/auth/guard';
 import type { RequestHandler } from './$types';
@@ -39,20 +40,22 @@ export const GET: RequestHandler = async (event) => {
 				: key && !(key in params)
 					? `${key} is missing. ${USAGE}`
 					: issue.message;
-		return json({ message }, { status: 400 });
+		return apiError(400, message, fieldOfIssue(issue));
 	}
 	const q = parsed.data;
 	const proof =
 		'seq' in q ? await inclusionOf(q.seq, q.treeSize) : await consistencyOf(q.first, q.second);
 	if (!proof)
-		return json(
-			{
-				message:
-					'seq' in q
-						? `There is no checkpoint of ${q.treeSize} events holding event ${q.seq}: see GET /api/v1/audit/checkpoints.`
-						: `There is no pair of checkpoints of ${q.first} and ${q.second} events (the first no larger than the second): see GET /api/v1/audit/checkpoints.`
-			},
-			{ status: 404 }
-		);
+		return 'seq' in q
+			? apiError(
+					404,
+					`There is no checkpoint of ${q.treeSize} events holding event ${q.seq}: see GET /api/v1/audit/checkpoints.`,
+					'treeSize'
+				)
+			: apiError(
+					404,
+					`There is no pair of checkpoints of ${q.first} and ${q.second} events (the first no larger than the second): see GET /api/v1/audit/checkpoints.`,
+					'first'
+				);
 	return json(proof, { headers: { 'cache-control': 'no-store' } });
 };

@@ -1,6 +1,6 @@
 import { error, json } from '@sveltejs/kit';
 import * as equipment from '$lib/server/equipment';
-import { recordPlantUsage, usageReportSchema } from '$lib/server/plant-usage';
+import { readPlantUsage, recordPlantUsage, usageReportSchema } from '$lib/server/plant-usage';
 import { RecordError } from '$lib/server/records';
 import type { RequestHandler } from './$types';
 
@@ -45,4 +45,28 @@ export const POST: RequestHandler = async (event) => {
 			return json({ message: e.message, field: e.field ?? null }, { status: e.status });
 		throw e;
 	}
+};
+
+/**
+ * A plant display reads the counters and the latest SIP cycles: `GET /api/v1/equipment/{tag}/usage`
+ * with a token of scope usage:read (the guard asks for that scope on GET); `?limit=` 1 to 200
+ * cycles, 20 by default.
+ */
+export const GET: RequestHandler = async (event) => {
+	const token = event.locals.token;
+	if (!token) error(401, 'Send the API token as "Authorization: Bearer <token>".');
+	const raw = event.url.searchParams.get('limit');
+	const limit = raw === null ? 20 : Number(raw);
+	if (!Number.isInteger(limit) || limit < 1 || limit > 200)
+		return json(
+			{ message: 'limit is a whole number from 1 to 200.', field: 'limit' },
+			{ status: 400 }
+		);
+	const tag = event.params.tag.toUpperCase();
+	const id = await equipment.findByTag(tag);
+	if (!id)
+		return json({ message: `No equipment has the tag ${tag}.`, field: 'tag' }, { status: 404 });
+	return json(await readPlantUsage(token, { id, tag }, limit, event.getClientAddress()), {
+		headers: { 'cache-control': 'no-store' }
+	});
 };
