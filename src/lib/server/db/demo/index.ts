@@ -1,7 +1,5 @@
-import { eq } from 'drizzle-orm';
 import { siteToday, addDays } from '../../../fitness';
 import type { DiaphragmValveAttributes, EquipmentClass, FailPosition } from '../../../equipment';
-import type { User } from '../../auth/guard';
 import { db } from '../index';
 import * as equipment from '../../equipment';
 import * as instruments from '../../instruments';
@@ -11,7 +9,6 @@ import * as qualifications from '../../qualifications';
 import { currentSite } from '../../plant';
 import type { Recorder } from '../../records';
 import type { ProcedureContent } from '../../../schemas/procedure';
-import { accounts } from '../schema/index';
 import {
 	diaphragmReplacement,
 	diaphragmReplacementChange,
@@ -19,6 +16,7 @@ import {
 	retighteningCheck,
 	sealInspection
 } from './procedures';
+import { demoPerson } from './people';
 export { seedDemoWork, type WorkSeedResult } from './work';
 export { seedDemoPlantUsage, seedDemoSchedules } from './schedules';
 export { seedDemoReliability } from './reliability';
@@ -251,18 +249,7 @@ export type MasterSeedResult = {
 	qualifications: number;
 };
 
-async function person(username: string): Promise<User> {
-	const [a] = await db().select().from(accounts).where(eq(accounts.username, username));
-	if (!a) throw new Error(`demo account ${username} is missing: seed the accounts first`);
-	return {
-		id: a.id,
-		username: a.username,
-		name: a.fullName,
-		email: a.email,
-		roles: a.roles,
-		mustChangePassword: false
-	};
-}
+const person = demoPerson;
 
 export async function seedDemoMasterData(password: string): Promise<MasterSeedResult> {
 	const added: MasterSeedResult = {

@@ -8,7 +8,8 @@ import { createSchedule } from '../../pm';
 import * as procedures from '../../procedures';
 import { personOf } from '../../records';
 import { db } from '../index';
-import { accounts, apiTokens, areas, pmSchedules } from '../schema/index';
+import { demoPerson } from './people';
+import { apiTokens, areas, pmSchedules } from '../schema/index';
 
 /**
  * Demo PM schedules (9/10), planned by the demo Planner, with start dates relative to the day of
@@ -21,16 +22,7 @@ export async function seedDemoSchedules() {
 	const site = await currentSite();
 	if (!site) throw new Error('the demo site is missing: seed the plant first');
 	const today = siteToday(site.timeZone);
-	const [p] = await db().select().from(accounts).where(eq(accounts.username, 'planner'));
-	if (!p) throw new Error('demo account planner is missing: seed the accounts first');
-	const planner = personOf({
-		id: p.id,
-		username: p.username,
-		name: p.fullName,
-		email: p.email,
-		roles: p.roles,
-		mustChangePassword: false
-	});
+	const planner = personOf(await demoPerson('planner'));
 	const proc = async (code: string) => (await procedures.findProcedureByCode(code))!;
 	const tag = async (t: string) => (await equipment.findByTag(t))!;
 	const [buffer] = await db().select({ id: areas.id }).from(areas).where(eq(areas.code, 'BUF'));
@@ -118,20 +110,8 @@ export async function seedDemoSchedules() {
 export async function seedDemoPlantUsage() {
 	const [existing] = await db().select({ n: count() }).from(apiTokens);
 	if ((existing?.n ?? 0) > 0) return { sipCycles: 0 };
-	const [a] = await db().select().from(accounts).where(eq(accounts.username, 'admin'));
-	if (!a) throw new Error('demo account admin is missing: seed the accounts first');
 	const name = 'Fill line control system';
-	const made = await createApiToken(
-		{
-			id: a.id,
-			username: a.username,
-			name: a.fullName,
-			email: a.email,
-			roles: a.roles,
-			mustChangePassword: false
-		},
-		{ name, scope: 'usage' }
-	);
+	const made = await createApiToken(await demoPerson('admin'), { name, scope: 'usage' });
 	const token = { kind: 'token' as const, id: made.id, name };
 	const day = 86_400_000;
 	const now = Date.now();

@@ -1,5 +1,5 @@
 import { passesFor } from '../../../calc/tightening';
-import { count, eq } from 'drizzle-orm';
+import { count } from 'drizzle-orm';
 import { addDays, siteToday } from '../../../fitness';
 import type { Priority, WorkKind } from '../../../work';
 import type { User } from '../../auth/guard';
@@ -11,7 +11,8 @@ import * as procedures from '../../procedures';
 import { currentSite } from '../../plant';
 import { personOf } from '../../records';
 import * as work from '../../work-orders';
-import { accounts, workOrders } from '../schema/index';
+import { workOrders } from '../schema/index';
+import { demoPerson } from './people';
 
 /**
  * Demo work orders (5/10), one or more in every stage, so that every role's Waiting for me has
@@ -46,18 +47,7 @@ const none = (): WorkSeedResult => ({
 	cancelled: 0
 });
 
-async function person(username: string): Promise<User> {
-	const [a] = await db().select().from(accounts).where(eq(accounts.username, username));
-	if (!a) throw new Error(`demo account ${username} is missing: seed the accounts first`);
-	return {
-		id: a.id,
-		username: a.username,
-		name: a.fullName,
-		email: a.email,
-		roles: a.roles,
-		mustChangePassword: false
-	};
-}
+const person = demoPerson;
 
 /** The seed runs on the server: its events have no client address (like seedDemoMasterData's). */
 const ip = null;
