@@ -82,6 +82,10 @@ export default defineConfig({
 			// The outbox worker looks for work every second (5 s by default) besides after each commit.
 			OUTBOX_INTERVAL_MS: '1000',
 			AUTH_DELAY_FREE_PER_ADDRESS: '1000',
+			// Browser tests sign in and sign faster than people (limits: src/lib/server/rate-limit.ts).
+			RATE_LIMIT_SIGN_IN_PER_ADDRESS: '1000000',
+			RATE_LIMIT_SIGNATURES_PER_PERSON: '1000000',
+			RATE_LIMIT_API_PER_ADDRESS: '1000000',
 			// The demo's PM schedules stay as seeded (no work orders made mid-run): the browser tests
 			// see the due and overdue lists; the scheduler is tested in tests/integration/pm.spec.ts.
 			PM_SCHEDULER: 'off'

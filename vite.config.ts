@@ -24,7 +24,16 @@ export default defineConfig({
 					include: ['tests/integration/**/*.spec.ts'],
 					environment: 'node',
 					testTimeout: 60_000,
-					hookTimeout: 120_000
+					hookTimeout: 120_000,
+					// Tests sign in and sign far faster than people: the rate limits (rate-limit.ts) are
+					// out of their way, except in tests/integration/rate-limits.spec.ts, which sets its own.
+					env: {
+						RATE_LIMIT_API_PER_PERSON: '1000000',
+						RATE_LIMIT_API_PER_TOKEN: '1000000',
+						RATE_LIMIT_API_PER_ADDRESS: '1000000',
+						RATE_LIMIT_SIGN_IN_PER_ADDRESS: '1000000',
+						RATE_LIMIT_SIGNATURES_PER_PERSON: '1000000'
+					}
 				}
 			}
 		]

@@ -5,6 +5,7 @@ import { apiError, normaliseApiError } from '$lib/server/api-errors';
 import { guard } from '$lib/server/auth/guard';
 import { closeDatabase } from '$lib/server/db/index';
 import { log } from '$lib/server/log';
+import { hit, tooManyWords } from '$lib/server/rate-limit';
 import { startCheckpointWorker, stopCheckpointWorker } from '$lib/server/audit/checkpoints';
 import { startOutboxWorker, stopOutboxWorker } from '$lib/server/outbox';
 import { startPmScheduler, stopPmScheduler } from '$lib/server/pm';
@@ -44,6 +45,16 @@ const core: Handle = async ({ event, resolve }) => {
 		return apiError(413, 'The request is too large: send at most 1 MB.', null, {
 			headers: { 'x-request-id': event.locals.requestId }
 		});
+	// Requests to the API per client address (rate-limit.ts), before anything else is done for them.
+	if (isApi(event.url.pathname) && event.url.pathname !== '/api/v1/health') {
+		const rate = hit('api_address', event.getClientAddress());
+		if (!rate.ok) {
+			if (rate.first) log.warn('rate limit reached', { kind: 'api_address', limit: rate.limit });
+			return apiError(429, tooManyWords('API requests from your address', rate.retryAfter), null, {
+				headers: { 'retry-after': String(rate.retryAfter), 'x-request-id': event.locals.requestId }
+			});
+		}
+	}
 	const resolved = await resolve(event);
 
 	// API routes answer JSON, never an HTML page or bare text, whatever the client asked for, and
@@ -59,6 +70,10 @@ const core: Handle = async ({ event, resolve }) => {
 	// Some responses (Response.redirect from Auth.js) have immutable headers: copy those first.
 	const out = isImmutable(response) ? new Response(response.body, response) : response;
 	for (const [name, value] of Object.entries(securityHeaders)) out.headers.set(name, value);
+	// Served over HTTPS (ORIGIN https://…, or a proxy that says so to adapter-node): browsers keep
+	// to HTTPS for a year (RFC 6797). Never over plain HTTP, where it would mean nothing.
+	if (event.url.protocol === 'https:')
+		out.headers.set('strict-transport-security', 'max-age=31536000; includeSubDomains');
 	out.headers.set('x-request-id', event.locals.requestId);
 	// A signed-in page must not come back from the browser's cache after sign-out (shared tablets).
 	if (event.locals.user && (out.headers.get('content-type') ?? '').startsWith('text/html')) {
@@ -70,7 +85,10 @@ const core: Handle = async ({ event, resolve }) => {
 const securityHeaders = {
 	'x-content-type-options': 'nosniff',
 	'referrer-policy': 'same-origin',
-	'x-frame-options': 'DENY'
+	// Older browsers' word for the CSP's frame-ancestors 'none' (svelte.config.js).
+	'x-frame-options': 'DENY',
+	'cross-origin-opener-policy': 'same-origin',
+	'permissions-policy': 'camera=(self), microphone=(), geolocation=(), payment=()'
 };
 
 function isImmutable(response: Response) {

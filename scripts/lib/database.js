@@ -60,6 +60,10 @@ export async function runSeed(ownerUrl, appUrl) {
 	}
 	const previous = process.env.DATABASE_URL;
 	process.env.DATABASE_URL = appUrl;
+	// The seed signs a demo's worth of records in seconds: no signature rate limit for it (the
+	// server's own limits are untouched: the setting is put back below).
+	const previousLimit = process.env.RATE_LIMIT_SIGNATURES_PER_PERSON;
+	process.env.RATE_LIMIT_SIGNATURES_PER_PERSON = '1000000';
 	/** @type {typeof import('../../src/lib/server/db/demo/index.ts')} */
 	const demo = await tsImport('../../src/lib/server/db/demo/index.ts', import.meta.url);
 	try {
@@ -78,6 +82,8 @@ export async function runSeed(ownerUrl, appUrl) {
 		await demo.closeDatabase();
 		if (previous === undefined) delete process.env.DATABASE_URL;
 		else process.env.DATABASE_URL = previous;
+		if (previousLimit === undefined) delete process.env.RATE_LIMIT_SIGNATURES_PER_PERSON;
+		else process.env.RATE_LIMIT_SIGNATURES_PER_PERSON = previousLimit;
 	}
 }
 

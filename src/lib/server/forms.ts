@@ -73,10 +73,12 @@ export async function recordAction<S extends ZodObject>(
 		await change(user, form.data as z.infer<S>);
 	} catch (e) {
 		clear();
-		if (e instanceof SignatureError)
+		if (e instanceof SignatureError) {
+			if (e.retryAfter) event.setHeaders({ 'retry-after': String(e.retryAfter) });
 			return setError(form, 'password' as never, e.message, {
 				status: e.status === 423 ? 403 : e.status
 			});
+		}
 		if (e instanceof RecordError) {
 			if (e.field && e.field in (form.data as Record<string, unknown>))
 				return setError(form, e.field as never, e.message, { status: e.status });

@@ -17,7 +17,7 @@ function refusal(code: string | undefined, retryAfter?: number) {
 		const wait = retryAfter
 			? ` Wait ${retryAfter} s, then try again.`
 			: ' Wait a moment, then try again.';
-		return { status: 429, text: `Too many failed attempts.${wait}` };
+		return { status: 429, text: `Too many sign-in attempts.${wait}` };
 	}
 	return { status: 401, text: 'Username or password is incorrect.' };
 }

@@ -11,6 +11,17 @@ import { freshDatabase } from './database';
 export async function appDatabase() {
 	const t = await freshDatabase();
 	env.DATABASE_URL = t.appUrl;
+	// Tests sign and call the API far faster than people: the rate limits (rate-limit.ts) stay out
+	// of their way (vite.config.ts does the same for the apps they serve), except where a test
+	// sets its own (tests/integration/rate-limits.spec.ts).
+	for (const name of [
+		'RATE_LIMIT_API_PER_PERSON',
+		'RATE_LIMIT_API_PER_TOKEN',
+		'RATE_LIMIT_API_PER_ADDRESS',
+		'RATE_LIMIT_SIGN_IN_PER_ADDRESS',
+		'RATE_LIMIT_SIGNATURES_PER_PERSON'
+	])
+		env[name] = '1000000';
 	return {
 		...t,
 		async drop() {

@@ -3,6 +3,8 @@ import { mayAccess, routeAccess, type Access } from '$lib/access';
 import type { Role } from '$lib/roles';
 import { checkBearer, scopeForMethod } from '../api-tokens';
 import { recordEventNow } from '../audit/now';
+import { log } from '../log';
+import { hit, tooManyWords, type RateLimitKind } from '../rate-limit';
 
 export type User = {
 	id: string;
@@ -30,6 +32,18 @@ async function recordDenied(event: RequestEvent, user: User, needed: Access | st
 	});
 }
 
+/** A 429 in the API's error shape with Retry-After when `key` is over its limit; null when not. */
+function rateLimited(kind: RateLimitKind, key: string, what: string, event: RequestEvent) {
+	const rate = hit(kind, key);
+	if (rate.ok) return null;
+	if (rate.first)
+		log.warn('rate limit reached', { kind, limit: rate.limit, path: event.url.pathname });
+	return json(
+		{ message: tooManyWords(what, rate.retryAfter), field: null },
+		{ status: 429, headers: { 'retry-after': String(rate.retryAfter) } }
+	);
+}
+
 /**
  * The server's guard, after Auth.js's handle: finds the signed-in person (Auth.js's jwt
  * callback checks the server-side session), then applies the route's rule from $lib/access.
@@ -51,6 +65,8 @@ export const guard: Handle = async ({ event, resolve }) => {
 			clientAddress: event.getClientAddress()
 		});
 		if (!checked.ok) return json({ message: checked.message }, { status: checked.status });
+		const limited = rateLimited('api_token', checked.actor.id, 'requests with this token', event);
+		if (limited) return limited;
 		event.locals.token = checked.actor;
 		return resolve(event);
 	}
@@ -58,6 +74,10 @@ export const guard: Handle = async ({ event, resolve }) => {
 	const session = await event.locals.auth();
 	const user = session?.user?.id ? (session.user as unknown as User) : null;
 	event.locals.user = user;
+	if (user && isApi(event)) {
+		const limited = rateLimited('api_person', user.id, 'API requests from you', event);
+		if (limited) return limited;
+	}
 
 	// Unknown paths fall through to the 404 page; every known route has a rule (checked by types and tests).
 	const access: Access | undefined = routeId

@@ -3,6 +3,7 @@ import { recordEvent } from '../audit/index';
 import { db } from '../db/index';
 import { accounts } from '../db/schema/index';
 import { kickOutbox } from '../outbox';
+import { hit } from '../rate-limit';
 import { countFailedPassword, lockIfDue } from './lockout';
 import { decoyHash, verifyPassword } from './passwords';
 import { authSettings } from './settings';
@@ -36,6 +37,21 @@ export async function attemptSignIn(input: {
 	const keys = throttleKeys(username, input.clientAddress, settings);
 	const anonymous = { kind: 'anonymous' } as const;
 	const clientAddress = input.clientAddress;
+
+	// Attempts per address and minute, right or wrong (rate-limit.ts), before any other work.
+	const rate = hit('sign_in_address', clientAddress);
+	if (!rate.ok) {
+		await db().transaction((tx) =>
+			recordEvent(tx, {
+				actor: anonymous,
+				action: 'auth.sign_in_failed',
+				entityType: 'account',
+				newValues: { username, reason: 'rate_limited', retryAfterSeconds: rate.retryAfter },
+				clientAddress
+			})
+		);
+		return { ok: false, code: 'throttled', retryAfter: rate.retryAfter };
+	}
 
 	// One transaction, with the account's row locked from the first check to the last write:
 	// parallel guesses at one account queue up, each sees the count the one before left, and

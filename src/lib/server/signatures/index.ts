@@ -9,6 +9,7 @@ import { verifyPassword } from '../auth/passwords';
 import { db, type Transaction } from '../db/index';
 import { accounts, signatures } from '../db/schema/index';
 import { kickOutbox } from '../outbox';
+import { hit, tooManyWords } from '../rate-limit';
 
 /**
  * Electronic signatures (21 CFR 11.50, 11.70, 11.200; EU GMP Annex 11 §14; REQUIREMENTS ES1–ES8).
@@ -30,8 +31,10 @@ export function contentHash(record: SignedRecord): string {
 export class SignatureError extends Error {
 	constructor(
 		message: string,
-		readonly code: 'password' | 'locked' | 'not_allowed',
-		readonly status: 401 | 403 | 423
+		readonly code: 'password' | 'locked' | 'not_allowed' | 'rate_limited',
+		readonly status: 401 | 403 | 423 | 429,
+		/** Seconds to wait (a 429's Retry-After). */
+		readonly retryAfter?: number
 	) {
 		super(message);
 	}
@@ -65,6 +68,18 @@ export async function reauthenticate(
 	if (signer.roles.includes('administrator')) {
 		await refused('administrator');
 		throw new SignatureError('Administrators do not sign GMP records.', 'not_allowed', 403);
+	}
+	// Signatures per person and minute (rate-limit.ts): a script guessing through the signing
+	// dialog is stopped before the password is even checked (the lockout counts the guesses too).
+	const rate = hit('sign_person', signer.id);
+	if (!rate.ok) {
+		await refused('rate_limited');
+		throw new SignatureError(
+			tooManyWords('signatures', rate.retryAfter),
+			'rate_limited',
+			429,
+			rate.retryAfter
+		);
 	}
 	// The account row stays locked from the check to the count: parallel attempts cannot pass the lockout.
 	const outcome = await db().transaction(async (tx) => {
