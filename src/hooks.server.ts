@@ -45,8 +45,9 @@ const core: Handle = async ({ event, resolve }) => {
 		return apiError(413, 'The request is too large: send at most 1 MB.', null, {
 			headers: { 'x-request-id': event.locals.requestId }
 		});
-	// Requests to the API per client address (rate-limit.ts), before anything else is done for them.
-	if (isApi(event.url.pathname) && event.url.pathname !== '/api/v1/health') {
+	// Requests to the API per client address (rate-limit.ts), before anything else is done for them;
+	// not the health checks, which load balancers poll.
+	if (isApi(event.url.pathname) && !event.url.pathname.startsWith('/api/v1/health')) {
 		const rate = hit('api_address', event.getClientAddress());
 		if (!rate.ok) {
 			if (rate.first) log.warn('rate limit reached', { kind: 'api_address', limit: rate.limit });

@@ -29,6 +29,7 @@ export const routeAccess = {
 	'/api': 'public',
 	'/api/v1': 'public',
 	'/api/v1/health': 'public',
+	'/api/v1/health/live': 'public',
 	/** The API description: any signed-in person (not anonymous: it maps every route and rule). */
 	'/api/v1/openapi.json': 'signed-in',
 	'/(app)/api-reference': 'signed-in',

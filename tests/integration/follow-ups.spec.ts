@@ -22,7 +22,7 @@ import { appDatabase, setEnv } from './helpers/app-database';
 // the first steam sterilisation: the retightening after the first SIP is common practice for
 // PTFE/elastomer diaphragms (common practice, no source). Saturated steam: IAPWS-IF97 region 4
 // (shared/CHECK-VALUES.md) — at 1.2 bar absolute about 104.8 °C, so 121 °C there is not
-// saturated steam. REQUIREMENTS ES1, ES4 (the disposition signs), SD1 (segregation), AT7.
+// saturated steam. REQUIREMENTS ES1, ES4 (the disposition signs), ES8 (segregation), AT7; CS-FU1, CS-SIP2, CS-PM4.
 let t: Awaited<ReturnType<typeof appDatabase>>;
 const people: Record<string, User> = {};
 let token: tokens.TokenActor;

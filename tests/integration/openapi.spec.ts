@@ -27,7 +27,7 @@ import { serveBuiltApp, signInOverHttp } from './helpers/served-app';
 // 3.1 by @seriousme/openapi-schema-validator), it documents exactly the route files of /api/v1,
 // its schemas (JSON Schema draft 2020-12, made by zod's z.toJSONSchema) judge bodies as the zod
 // schemas do and describe the real answers, and every API error has one shape,
-// {"message", "field"} (REQUIREMENTS AC1 for who may call what; AT1, AT4: no edit or delete).
+// {"message", "field"} (REQUIREMENTS AC1 for who may call what; AT1, AT4: no edit or delete; CS-API1, CS-API2).
 let t: Awaited<ReturnType<typeof appDatabase>>;
 let app: Awaited<ReturnType<typeof serveBuiltApp>>;
 const cookies: Record<string, string> = {};

@@ -12,7 +12,7 @@ import { serveBuiltApp } from './helpers/served-app';
 // refusal audited), checked before anything else; SIP cycles counted once; the temperature–
 // pressure check against saturated steam (IAPWS-IF97 region 4, shared/CHECK-VALUES.md:
 // 121.1 °C ↔ 2.05685 bar abs; at 1.2 bar abs saturated steam is about 104.8 °C, so 121 °C there
-// is not saturated steam). REQUIREMENTS AT7, SE10.
+// is not saturated steam). REQUIREMENTS AT7, SE10; CS-SIP1, CS-SIP2, CS-TOK1, CS-TOK2.
 let t: Awaited<ReturnType<typeof appDatabase>>;
 let app: Awaited<ReturnType<typeof serveBuiltApp>>;
 let admin: User;

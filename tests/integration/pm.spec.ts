@@ -16,7 +16,8 @@ import { workDatabase } from './helpers/work';
 // PM schedules and the scheduler (issue 9/10 item 1): the Planner's schedules are records with
 // their audit events; the scheduler makes each due work order once, as "system: PM scheduler",
 // however many runs there are at once — enforced by the database (work_orders_pm_once). The
-// due-date arithmetic itself is checked in src/lib/calc/schedule.spec.ts.
+// due-date arithmetic itself is checked in src/lib/calc/schedule.spec.ts. REQUIREMENTS CS-PM1,
+// CS-PM3.
 let t: Awaited<ReturnType<typeof appDatabase>>;
 let today: string;
 const people: Record<string, User> = {};

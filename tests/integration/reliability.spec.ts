@@ -31,6 +31,7 @@ import { stepActions, workDatabase } from './helpers/work';
 // diaphragm in service right-censored at today with its SIP cycles from equipment_usage, and the
 // Weibull fit of src/lib/calc/weibull.ts (checked there against the NIST/SEMATECH e-Handbook
 // §8.4.1.3 example). Expected values here are worked out by hand from the rows the test writes.
+// REQUIREMENTS CS-REL1.
 let t: Awaited<ReturnType<typeof appDatabase>>;
 let today: string;
 const people: Record<string, User> = {};

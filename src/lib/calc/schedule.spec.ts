@@ -12,7 +12,7 @@ import {
 	type ScheduleRule
 } from './schedule';
 
-// PM due dates (issue 9/10 item 1). Sources named beside each check:
+// PM due dates (issue 9/10 item 1; REQUIREMENTS CS-PM2). Sources named beside each check:
 // - the Gregorian calendar's leap-year rule (a year divisible by 4, except centuries not
 //   divisible by 400), written out independently below as the reference;
 // - EU summer time, Directive 2000/84/EC art. 2–3: it begins at 01:00 UTC on the last Sunday of

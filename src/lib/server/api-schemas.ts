@@ -46,6 +46,10 @@ export const healthSchema = z
 	})
 	.meta(d('Liveness and readiness of the app and the services it needs.'));
 
+export const livenessSchema = z
+	.strictObject({ status: z.literal('ok').meta(d('Always ok: the app server answers.')) })
+	.meta(d('Liveness: the app server answers.'));
+
 const queueItem = z.strictObject({
 	id: z.string(),
 	title: z.string(),

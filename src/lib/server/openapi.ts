@@ -27,6 +27,7 @@ const components = {
 	UsageAnswer: { schema: shapes.usageAnswerSchema, io: 'output' },
 	UsageReading: { schema: shapes.usageReadingSchema, io: 'output' },
 	Health: { schema: shapes.healthSchema, io: 'output' },
+	Liveness: { schema: shapes.livenessSchema, io: 'output' },
 	Queues: { schema: shapes.queuesSchema, io: 'output' },
 	AuditPage: { schema: shapes.auditPageSchema, io: 'output' },
 	Verification: { schema: shapes.verificationSchema, io: 'output' },
@@ -418,6 +419,19 @@ export const apiOperations: ApiOperation[] = [
 				description: 'A part does not answer: the body says which.',
 				content: [json('Health')]
 			}
+		},
+		errors: {}
+	},
+	{
+		route: '/api/v1/health/live',
+		method: 'get',
+		operationId: 'liveness',
+		tag: 'Service',
+		summary: 'Liveness',
+		description:
+			'Whether the app server answers at all, without asking the services behind it (for an orchestrator’s restart check).',
+		responses: {
+			200: { description: 'The app server answers.', content: [json('Liveness')] }
 		},
 		errors: {}
 	},

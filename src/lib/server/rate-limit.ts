@@ -14,7 +14,7 @@ export const rateLimitKinds = {
 	/** Requests to /api/v1 per plant API token. */
 	api_token: { setting: 'RATE_LIMIT_API_PER_TOKEN', default: 600 },
 	/** Requests to /api/v1 per client address, whoever sends them. */
-	api_address: { setting: 'RATE_LIMIT_API_PER_ADDRESS', default: 6000 },
+	api_address: { setting: 'RATE_LIMIT_API_PER_ADDRESS', default: 30000 },
 	/** Sign-in attempts (right or wrong) per client address; failures also slow down (throttle.ts). */
 	sign_in_address: { setting: 'RATE_LIMIT_SIGN_IN_PER_ADDRESS', default: 60 },
 	/** Electronic signatures (each re-enters the password) per person. */

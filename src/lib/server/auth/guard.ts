@@ -51,7 +51,7 @@ function rateLimited(kind: RateLimitKind, key: string, what: string, event: Requ
  */
 export const guard: Handle = async ({ event, resolve }) => {
 	const routeId = event.route.id;
-	if (routeId === '/api/v1/health') return resolve(event);
+	if (routeId === '/api/v1/health' || routeId === '/api/v1/health/live') return resolve(event);
 
 	// The plant API (9/10): the token first, whatever the path or the body, before any session.
 	if (
