@@ -75,4 +75,3 @@ export function resetRateLimits() {
 	windows.clear();
 	sweepAt = 0;
 }
-
